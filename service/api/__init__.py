@@ -1,0 +1,2 @@
+"""The HTTP layer: blueprints, schemas, request parsing, output and errors. No
+statistics live here."""

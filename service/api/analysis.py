@@ -1,0 +1,48 @@
+"""Blueprint for the one-sample analyses: /v1/describe and /v1/normality.
+
+Each view reads the request (``intake``), calls one function of ``service.stats`` and
+sends the result (``output``); no statistics here.
+"""
+
+from __future__ import annotations
+
+from flask import Blueprint, current_app
+
+from ..stats.describe import DescribeOptions, describe_sample
+from ..stats.forms import require_spread
+from ..stats.normality import NormalityOptions, normality_of_sample
+from .intake import read_sample_request
+from .output import document, respond
+from .schemas.describe import DescribeRequest
+from .schemas.normality import NormalityRequest
+
+bp = Blueprint("analysis", __name__, url_prefix="/v1")
+
+
+@bp.route("/describe", methods=["POST", "GET"])
+def describe():
+    req = read_sample_request(DescribeRequest)
+    require_spread(req.sample, minimum_n=2)
+    o = req.options
+    options = DescribeOptions(
+        quantile_definition=o["quantile_definition"],
+        skewness_threshold=o["skewness_threshold"],
+        kurtosis_threshold=o["kurtosis_threshold"],
+    )
+    return respond(document(req.input, describe_sample(req.sample, options)))
+
+
+@bp.route("/normality", methods=["POST", "GET"])
+def normality():
+    req = read_sample_request(NormalityRequest)
+    require_spread(req.sample, minimum_n=3)
+    o = req.options
+    alpha = o["alpha"] if o["alpha"] is not None else current_app.config["DEFAULT_ALPHA"]
+    options = NormalityOptions(
+        alpha=alpha,
+        primary_test=o["primary_test"],
+        adequate_n=o["adequate_n"],
+        skewness_threshold=o["skewness_threshold"],
+        kurtosis_threshold=o["kurtosis_threshold"],
+    )
+    return respond(document(req.input, normality_of_sample(req.sample, options)))

@@ -1,0 +1,190 @@
+"""The OpenAPI document, generated from the marshmallow schemas by apispec.
+
+``build_spec()`` is the single source: the app serves it at ``/openapi.json`` and
+``python -m service.api.openapi`` writes ``openapi/openapi.yaml``, which a test keeps
+equal to the generated document.
+"""
+
+from __future__ import annotations
+
+import json
+import sys
+from dataclasses import dataclass, field
+from functools import lru_cache
+from importlib import resources
+from pathlib import Path
+
+from apispec import APISpec
+from apispec.ext.marshmallow import MarshmallowPlugin
+from marshmallow import Schema
+
+from .. import __version__
+from .errors import PROBLEM_MEDIA_TYPE
+from .schemas.common import MISSING_TOKEN_DOC, OutputOptions, ProblemDocument, TextOptions, Unavailable
+from .schemas.describe import DescribeOptions, DescribeRequest, DescribeResponse
+from .schemas.normality import NormalityOptions, NormalityRequest, NormalityResponse
+
+OPENAPI_VERSION = "3.1.0"
+
+
+@dataclass(frozen=True)
+class Operation:
+    path: str
+    summary: str
+    description: str
+    request: type[Schema]
+    options: type[Schema]
+    response: type[Schema]
+    example: str
+    tag: str
+    errors: tuple[int, ...] = (400, 413, 415, 422)
+    get_form: bool = True
+    extra: dict = field(default_factory=dict)
+
+
+OPERATIONS = (
+    Operation(
+        path="/v1/describe",
+        summary="Location, spread, skewness and excess kurtosis with standard errors",
+        description=(
+            "Mean, median, mode, sd, quartiles, MAD, skewness in three conventions (G1, g1, b1) with "
+            "its standard error, z and p-value, Pearson's and Bowley's skewness, excess kurtosis in "
+            "three conventions (G2, g2, b2), and the share of values within 1, 2 and 3 sd beside the "
+            "normal shares."
+        ),
+        request=DescribeRequest,
+        options=DescribeOptions,
+        response=DescribeResponse,
+        example="demo.json",
+        tag="analysis",
+    ),
+    Operation(
+        path="/v1/normality",
+        summary="Nine normality tests and one sample-size-aware verdict",
+        description=(
+            "Shapiro-Wilk, Shapiro-Francia, D'Agostino-Pearson K^2, the skewness and kurtosis tests, "
+            "Anderson-Darling, Lilliefors, Cramer-von Mises and Jarque-Bera, each with its method and "
+            "reference. One primary test per sample-size range decides the verdict; small samples give "
+            "'inconclusive' rather than 'normal', large samples weigh the size of the departure."
+        ),
+        request=NormalityRequest,
+        options=NormalityOptions,
+        response=NormalityResponse,
+        example="demo.json",
+        tag="analysis",
+    ),
+)
+
+TEXT_BODY_DOC = (
+    "The sample as text: numbers separated by commas, semicolons, tabs, spaces or newlines, "
+    "with an optional header line. Missing-value markers (dropped and counted): "
+    f"{MISSING_TOKEN_DOC}. Options go in the query string."
+)
+
+
+def example(name: str) -> dict:
+    return json.loads(resources.files("service.api").joinpath("examples", name).read_text())
+
+
+def _error_responses(codes) -> dict:
+    return {
+        str(code): {
+            "description": {400: "malformed body", 401: "missing or wrong API key", 413: "body or sample too large",
+                            415: "unsupported media type", 422: "valid syntax that cannot be analysed"}[code],
+            "content": {PROBLEM_MEDIA_TYPE: {"schema": ProblemDocument}},
+        }
+        for code in codes
+    }
+
+
+def _operations(op: Operation) -> dict:
+    ok = {
+        "description": "the analysis",
+        "content": {
+            "application/json": {"schema": op.response},
+            "text/csv": {"schema": {"type": "string", "description": "key,value rows with dotted keys"}},
+            "text/plain": {"schema": {"type": "string", "description": "one value, when ?field= is given"}},
+        },
+    }
+    query = [{"in": "query", "schema": OutputOptions}]
+    post = {
+        "tags": [op.tag],
+        "summary": op.summary,
+        "description": op.description,
+        "operationId": op.path.strip("/").replace("/", "_") + "_post",
+        "parameters": query + [{"in": "query", "schema": TextOptions}, {"in": "query", "schema": op.options}],
+        "requestBody": {
+            "required": True,
+            "description": "JSON with the sample in `values`, or the sample as text (options then in the query)",
+            "content": {
+                "application/json": {"schema": op.request, "examples": {"demo": {"value": example(op.example)}}},
+                "text/csv": {"schema": {"type": "string", "description": TEXT_BODY_DOC}},
+                "text/plain": {"schema": {"type": "string", "description": TEXT_BODY_DOC}},
+            },
+        },
+        "responses": {"200": ok, **_error_responses(op.errors)},
+    }
+    operations = {"post": post}
+    if op.get_form:
+        values_param = {
+            "in": "query",
+            "name": "values",
+            "required": True,
+            "description": "the sample as text, e.g. 1.2,3.4,5.6 (same rules as a text body)",
+            "schema": {"type": "string"},
+        }
+        operations["get"] = {
+            "tags": [op.tag],
+            "summary": op.summary + " (GET form for spreadsheet cell formulas)",
+            "description": "The same analysis with the sample and options in the query string. "
+            "With field=<dotted key> the answer is that one value as text/plain.",
+            "operationId": op.path.strip("/").replace("/", "_") + "_get",
+            "parameters": [values_param] + query + [{"in": "query", "schema": TextOptions}, {"in": "query", "schema": op.options}],
+            "responses": {"200": ok, **_error_responses(tuple(c for c in op.errors if c != 415))},
+        }
+    return operations
+
+
+@lru_cache(maxsize=1)
+def build_spec() -> dict:
+    spec = APISpec(
+        title="shapegauge",
+        version=__version__,
+        openapi_version=OPENAPI_VERSION,
+        plugins=[MarshmallowPlugin()],
+        info={
+            "description": (
+                "Distribution diagnostics for analysts, quality engineers and the jobs they write: "
+                "moments with standard errors, normality tests with an honest verdict, and more. "
+                "A screening aid, not a substitute for a qualified statistician; for health, safety "
+                "or regulated decisions follow the applicable standards and validated procedures."
+            ),
+        },
+    )
+    spec.components.schema("Unavailable", schema=Unavailable)
+    for op in OPERATIONS:
+        spec.path(path=op.path, operations=_operations(op))
+    spec.path(
+        path="/healthz",
+        operations={"get": {"tags": ["operations"], "summary": "liveness", "operationId": "healthz",
+                            "responses": {"200": {"description": "the process is alive",
+                                                  "content": {"application/json": {"schema": {"type": "object"}}}}}}},
+    )
+    return spec.to_dict()
+
+
+def spec_yaml() -> str:
+    import yaml
+
+    return yaml.safe_dump(build_spec(), sort_keys=False, allow_unicode=True, width=100)
+
+
+def main(argv: list[str]) -> int:
+    target = Path(argv[1]) if len(argv) > 1 else Path("openapi/openapi.yaml")
+    target.write_text(spec_yaml())
+    print(f"wrote {target}")
+    return 0
+
+
+if __name__ == "__main__":
+    sys.exit(main(sys.argv))

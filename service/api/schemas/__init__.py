@@ -1,0 +1,3 @@
+"""marshmallow schemas: request envelopes (validated on every call) and response
+documents (the source of the OpenAPI document; tests check every response against
+them)."""

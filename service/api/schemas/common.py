@@ -1,0 +1,148 @@
+"""Fields and schemas shared by every endpoint."""
+
+from __future__ import annotations
+
+from marshmallow import Schema, fields, validate
+
+from ...stats.describe import DEFAULT_KURTOSIS_THRESHOLD, DEFAULT_SKEWNESS_THRESHOLD
+from ..text_input import MISSING_TOKENS
+
+UNAVAILABLE_REF = {"$ref": "#/components/schemas/Unavailable"}
+
+
+class Unavailable(Schema):
+    """What a form of input cannot give."""
+
+    available = fields.Boolean(required=True, metadata={"enum": [False]})
+    reason = fields.String(required=True)
+
+
+def number(description: str, **kw) -> fields.Float:
+    return fields.Float(required=True, metadata={"description": description}, **kw)
+
+
+def maybe(kind: str, description: str) -> fields.Raw:
+    """A number (or string, boolean) that some forms cannot give: then an Unavailable object."""
+    return fields.Raw(
+        required=True,
+        metadata={"description": description, "oneOf": [{"type": kind}, UNAVAILABLE_REF]},
+    )
+
+
+def nullable(kind: str, description: str) -> fields.Raw:
+    return fields.Raw(required=True, metadata={"description": description, "type": [kind, "null"]})
+
+
+class ValuesField(fields.Raw):
+    """A JSON array of numbers and nulls, converted by numpy in one step (never per
+    element by marshmallow); see ``service.api.values``."""
+
+
+def values_field() -> ValuesField:
+    return ValuesField(
+        metadata={
+            "description": "the sample: numbers, with null for a missing value (dropped and counted "
+            "unless missing=reject)",
+            "type": "array",
+            "items": {"type": ["number", "null"]},
+        }
+    )
+
+
+class SampleOptions(Schema):
+    missing = fields.String(
+        load_default="drop",
+        validate=validate.OneOf(["drop", "reject"]),
+        metadata={"description": "drop missing values and count them (default), or reject the request"},
+    )
+
+
+class ShapeThresholds(Schema):
+    skewness_threshold = fields.Float(
+        load_default=DEFAULT_SKEWNESS_THRESHOLD,
+        validate=validate.Range(min=0, min_inclusive=False, max=100),
+        metadata={"description": "|G1| at or above this is labelled skewed (default 0.5, Bulmer 1979)"},
+    )
+    kurtosis_threshold = fields.Float(
+        load_default=DEFAULT_KURTOSIS_THRESHOLD,
+        validate=validate.Range(min=0, min_inclusive=False, max=1000),
+        metadata={"description": "|G2| at or above this is labelled lepto- or platykurtic (default 1, common practice)"},
+    )
+
+
+class TextOptions(Schema):
+    """Options of text/csv and text/plain bodies, given as query parameters."""
+
+    decimal = fields.String(
+        load_default=".",
+        validate=validate.OneOf([".", ","]),
+        metadata={"description": "decimal mark; with ',' only semicolons, tabs, spaces and newlines separate"},
+    )
+    column = fields.String(
+        load_default=None,
+        metadata={"description": "for a table with a header of several names: the column to analyse, by name or 1-based number"},
+    )
+
+
+class OutputOptions(Schema):
+    format = fields.String(
+        load_default=None,
+        validate=validate.OneOf(["json", "csv"]),
+        metadata={"description": "csv: flat key,value rows with dotted keys (as Accept: text/csv)"},
+    )
+    field = fields.String(
+        load_default=None,
+        metadata={"description": "return only this dotted key's value as text/plain, for a spreadsheet cell (e.g. skewness.G1)"},
+    )
+
+
+class ServiceInfo(Schema):
+    name = fields.String(required=True)
+    version = fields.String(required=True)
+
+
+class InputInfo(Schema):
+    form = fields.String(required=True, metadata={"enum": ["values"]})
+    n = fields.Integer(required=True, metadata={"description": "values analysed (missing ones excluded)"})
+    missing = fields.Integer(required=True, metadata={"description": "missing values dropped"})
+    label = fields.Raw(required=True, metadata={"type": ["string", "null"], "description": "column name from a text header"})
+
+
+class Notice(Schema):
+    code = fields.String(required=True, metadata={"description": "machine-readable warning code"})
+    message = fields.String(required=True)
+
+
+class MethodRef(Schema):
+    name = fields.String(required=True)
+    reference = fields.String(required=True)
+
+
+class Envelope(Schema):
+    """Fields every analysis response carries."""
+
+    service = fields.Nested(ServiceInfo, required=True)
+    input = fields.Nested(InputInfo, required=True)
+    warnings = fields.List(fields.Nested(Notice), required=True)
+    caution = fields.String(required=True)
+
+
+class ProblemItem(Schema):
+    pointer = fields.String(metadata={"description": "RFC 6901 JSON pointer into the request"})
+    detail = fields.String(required=True)
+    line = fields.Integer(metadata={"description": "text bodies: 1-based line"})
+    column = fields.Integer(metadata={"description": "text bodies: 1-based column"})
+
+
+class ProblemDocument(Schema):
+    """RFC 9457 problem details."""
+
+    type = fields.String(required=True)
+    title = fields.String(required=True)
+    status = fields.Integer(required=True)
+    detail = fields.String(required=True)
+    instance = fields.String(metadata={"type": ["string", "null"]})
+    errors = fields.List(fields.Nested(ProblemItem))
+
+
+MISSING_TOKEN_DOC = ", ".join(repr(t) for t in MISSING_TOKENS)

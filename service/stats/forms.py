@@ -1,0 +1,97 @@
+"""The forms a sample can take on its way into the statistics layer.
+
+``Sample`` holds raw values. The values are sorted once, on first use, and every
+order-statistic method (quantiles, EDF tests, Shapiro–Wilk, the mode) shares that
+one sorted copy.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from functools import cached_property
+
+import numpy as np
+
+from .errors import ConstantData, NonFiniteValue, NotOneDimensional, TooFewValues
+
+# Spread below this many units in the last place of the largest magnitude is
+# rounding noise, not variation (common practice: a few dozen ulps).
+_NEGLIGIBLE_SPREAD_ULPS = 64
+
+
+@dataclass(frozen=True, eq=False)
+class Sample:
+    """A one-dimensional sample of finite float64 values.
+
+    Parameters
+    ----------
+    values : numpy.ndarray
+        The observed values in the order given (missing values already removed).
+    missing : int
+        How many missing values the caller's input held and were dropped.
+    """
+
+    values: np.ndarray
+    missing: int = 0
+
+    def __post_init__(self) -> None:
+        values = np.asarray(self.values, dtype=np.float64)
+        if values.ndim != 1:
+            raise NotOneDimensional(
+                f"a sample is one-dimensional; got an array of shape {values.shape}"
+            )
+        values.flags.writeable = False
+        object.__setattr__(self, "values", values)
+
+    @classmethod
+    def from_array(cls, values, missing: int = 0) -> "Sample":
+        """Build a sample from any array-like, refusing non-finite values.
+
+        The API layer validates values itself (naming positions in the request) and
+        then constructs ``Sample`` directly, so the check runs once per request.
+        """
+        array = np.asarray(values, dtype=np.float64)
+        if array.ndim == 1:
+            bad = ~np.isfinite(array)
+            if bad.any():
+                first = int(np.flatnonzero(bad)[0])
+                raise NonFiniteValue(f"value {first} is not finite", pointer=f"/values/{first}")
+        return cls(array, missing)
+
+    @property
+    def n(self) -> int:
+        return int(self.values.shape[0])
+
+    @cached_property
+    def sorted(self) -> np.ndarray:
+        out = np.sort(self.values)
+        out.flags.writeable = False
+        return out
+
+    @cached_property
+    def n_distinct(self) -> int:
+        s = self.sorted
+        return int(np.count_nonzero(s[1:] != s[:-1])) + 1 if s.size else 0
+
+
+def require_spread(sample: Sample, *, minimum_n: int = 2) -> None:
+    """Refuse samples that no shape statistic can describe.
+
+    Raises :class:`TooFewValues` below ``minimum_n`` values and :class:`ConstantData`
+    when every value is the same, or when the values differ only at the level of
+    floating-point rounding (their range is below a few dozen ulps of their magnitude),
+    where every moment would be noise.
+    """
+    if sample.n < minimum_n:
+        raise TooFewValues(
+            f"at least {minimum_n} non-missing values are needed; only n={sample.n} were given"
+        )
+    lo, hi = float(sample.sorted[0]), float(sample.sorted[-1])
+    if lo == hi:
+        raise ConstantData(f"all {sample.n} values equal {lo!r}: a constant has no shape to describe")
+    scale = max(abs(lo), abs(hi))
+    if hi - lo <= _NEGLIGIBLE_SPREAD_ULPS * np.spacing(scale):
+        raise ConstantData(
+            f"the values span only {hi - lo!r} around {scale!r}, which is floating-point rounding, "
+            "not variation: the data are constant for every practical purpose"
+        )

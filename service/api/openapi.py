@@ -106,13 +106,17 @@ def _operations(op: Operation) -> dict:
             "text/plain": {"schema": {"type": "string", "description": "one value, when ?field= is given"}},
         },
     }
-    query = [{"in": "query", "schema": OutputOptions}]
+
+    def query() -> list[dict]:
+        # Fresh dicts each time: apispec pops "schema" from a parameter as it expands it.
+        return [{"in": "query", "schema": s} for s in (OutputOptions, TextOptions, op.options)]
+
     post = {
         "tags": [op.tag],
         "summary": op.summary,
         "description": op.description,
         "operationId": op.path.strip("/").replace("/", "_") + "_post",
-        "parameters": query + [{"in": "query", "schema": TextOptions}, {"in": "query", "schema": op.options}],
+        "parameters": query(),
         "requestBody": {
             "required": True,
             "description": "JSON with the sample in `values`, or the sample as text (options then in the query)",
@@ -139,7 +143,7 @@ def _operations(op: Operation) -> dict:
             "description": "The same analysis with the sample and options in the query string. "
             "With field=<dotted key> the answer is that one value as text/plain.",
             "operationId": op.path.strip("/").replace("/", "_") + "_get",
-            "parameters": [values_param] + query + [{"in": "query", "schema": TextOptions}, {"in": "query", "schema": op.options}],
+            "parameters": [values_param] + query(),
             "responses": {"200": ok, **_error_responses(tuple(c for c in op.errors if c != 415))},
         }
     return operations

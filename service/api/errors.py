@@ -44,6 +44,7 @@ PROBLEM_TYPES: dict[str, ProblemType] = {
     "non-finite-value": ProblemType(422, "Non-finite value", "A sample holds an infinite value (or a number too large for a double)."),
     "missing-values-rejected": ProblemType(422, "Missing values rejected", "The request asked for missing=reject and the sample has missing values."),
     "not-one-dimensional": ProblemType(422, "Sample is not one-dimensional", "A sample is a flat list of numbers; nested arrays are not flattened."),
+    "out-of-range-value": ProblemType(422, "Value out of range", "A value is so large in magnitude that its square would overflow double precision."),
     "too-few-values": ProblemType(422, "Too few values", "The analysis needs more non-missing values than the sample has."),
     "constant-data": ProblemType(422, "Constant data", "Every value is the same (or differs only by rounding): there is no shape to describe."),
     "unanalysable-data": ProblemType(422, "Data cannot be analysed", "The data are well formed but the analysis cannot be carried out on them."),

@@ -32,3 +32,7 @@ class NotOneDimensional(DataError):
 
 class NonFiniteValue(DataError):
     code = "non-finite-value"
+
+
+class OutOfRange(DataError):
+    code = "out-of-range-value"

@@ -12,11 +12,15 @@ from functools import cached_property
 
 import numpy as np
 
-from .errors import ConstantData, NonFiniteValue, NotOneDimensional, TooFewValues
+from .errors import ConstantData, NonFiniteValue, NotOneDimensional, OutOfRange, TooFewValues
 
 # Spread below this many units in the last place of the largest magnitude is
 # rounding noise, not variation (common practice: a few dozen ulps).
 _NEGLIGIBLE_SPREAD_ULPS = 64
+# Beyond this magnitude the variance itself would overflow a double; below this
+# spread it would underflow.
+MAX_MAGNITUDE = 1e150
+MIN_SPREAD = 1e-150
 
 
 @dataclass(frozen=True, eq=False)
@@ -90,6 +94,16 @@ def require_spread(sample: Sample, *, minimum_n: int = 2) -> None:
     if lo == hi:
         raise ConstantData(f"all {sample.n} values equal {lo!r}: a constant has no shape to describe")
     scale = max(abs(lo), abs(hi))
+    if scale > MAX_MAGNITUDE:
+        raise OutOfRange(
+            f"a value of magnitude {scale:.3g} is beyond {MAX_MAGNITUDE:g}: its variance would "
+            "overflow double precision; rescale the data (the shape does not change)"
+        )
+    if hi - lo < MIN_SPREAD:
+        raise OutOfRange(
+            f"the values span only {hi - lo:.3g}: their variance would underflow double precision; "
+            "rescale the data (the shape does not change)"
+        )
     if hi - lo <= _NEGLIGIBLE_SPREAD_ULPS * np.spacing(scale):
         raise ConstantData(
             f"the values span only {hi - lo!r} around {scale!r}, which is floating-point rounding, "

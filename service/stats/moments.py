@@ -34,17 +34,20 @@ KURTOSIS_CONVENTIONS = ("G2", "g2", "b2")
 
 @dataclass(frozen=True)
 class Moments:
-    """Sample size, mean and central moments ``m_k = (1/n) * sum((x - mean)**k)``.
+    """Sample size, mean, second central moment ``m2 = (1/n) sum((x - mean)**2)`` and the
+    standardised shape ``g1 = m3 / m2**1.5`` and ``g2 = m4 / m2**2 - 3``.
 
-    ``m3`` and ``m4`` are ``None`` when the input did not carry them (a summary that
-    gives no skewness or kurtosis).
+    The shape is kept standardised because it is scale-free: computing it from scaled
+    deviations never overflows, where ``m4`` itself would for values beyond about 1e77.
+    ``g1`` and ``g2`` are ``None`` when the input did not carry them (a summary that gives
+    no skewness or kurtosis) or n is too small to define them (n < 3, n < 4).
     """
 
     n: int
     mean: float
     m2: float
-    m3: float | None = None
-    m4: float | None = None
+    g1: float | None = None
+    g2: float | None = None
 
     @property
     def variance(self) -> float:
@@ -57,16 +60,8 @@ class Moments:
         return math.sqrt(self.variance)
 
     @property
-    def g1(self) -> float | None:
-        if self.m3 is None or self.n < 3:
-            return None
-        return self.m3 / self.m2**1.5
-
-    @property
-    def g2(self) -> float | None:
-        if self.m4 is None or self.n < 4:
-            return None
-        return self.m4 / self.m2**2 - 3.0
+    def population_sd(self) -> float:
+        return math.sqrt(self.m2)
 
     def skewness(self, convention: str) -> float | None:
         return None if self.g1 is None else skewness_from_g1(self.g1, self.n, convention)
@@ -81,7 +76,9 @@ def central_moments(values: np.ndarray) -> Moments:
     The first pass gives a provisional mean; the deviations from it are exact for
     data whose values share a large offset (Sterbenz), and their own mean corrects
     the provisional one ([2], eq. 1.7) before the powers are summed. Values near 1e7
-    with a spread of 0.1 keep about 15 significant digits in every moment.
+    with a spread of 0.1 keep about 15 significant digits in every moment. The shape
+    is computed from the deviations divided by a power of two near their largest
+    magnitude (an exact scaling), so fourth powers cannot overflow or underflow.
     """
     x = np.asarray(values, dtype=np.float64)
     n = int(x.shape[0])
@@ -89,11 +86,18 @@ def central_moments(values: np.ndarray) -> Moments:
     d = x - provisional
     correction = float(d.mean())
     d -= correction
+    mean = provisional + correction
+    largest = float(np.max(np.abs(d))) if n else 0.0
+    if largest == 0.0:
+        return Moments(n=n, mean=mean, m2=0.0)
+    scale = 2.0 ** math.frexp(largest)[1]
+    d /= scale
     d2 = d * d
-    m2 = float(d2.mean())
-    m3 = float(np.dot(d2, d)) / n
-    m4 = float(np.dot(d2, d2)) / n
-    return Moments(n=n, mean=provisional + correction, m2=m2, m3=m3, m4=m4)
+    c2 = float(d2.mean())
+    m2 = c2 * scale * scale
+    g1 = float(np.dot(d2, d)) / n / c2**1.5 if n >= 3 else None
+    g2 = float(np.dot(d2, d2)) / n / (c2 * c2) - 3.0 if n >= 4 else None
+    return Moments(n=n, mean=mean, m2=m2, g1=g1, g2=g2)
 
 
 def skewness_from_g1(g1: float, n: int, convention: str) -> float:

@@ -6,6 +6,12 @@ the kernel by FFT, the standard binned approximation; the grid step is at most a
 quarter of the bandwidth, so the approximation error is far below the estimate's
 own statistical error.
 
+A far outlier would stretch one grid over empty space, so the mode is searched cluster
+by cluster: the sorted data split wherever two neighbours are more than 8 bandwidths
+apart (beyond 4 bandwidths a Gaussian kernel is below 0.04% of its peak, so clusters
+do not overlap), each cluster gets its own grid, and clusters too small to beat the
+best peak found so far are skipped.
+
 References
 ----------
 .. [1] Silverman, B. W. (1986). *Density Estimation for Statistics and Data Analysis*.
@@ -24,11 +30,16 @@ import numpy as np
 
 _MIN_GRID = 512
 _MAX_GRID = 1 << 16
+_REACH = 4.0  # kernel support kept, in bandwidths
+_STEPS_PER_BANDWIDTH = 4.0
 
 
 @dataclass(frozen=True)
 class DensityGrid:
-    """A density estimate evaluated on an evenly spaced grid."""
+    """A density estimate evaluated on an evenly spaced grid.
+
+    ``density`` integrates to the share of the sample in the cluster gridded (1 for the
+    whole sample)."""
 
     x: np.ndarray
     density: np.ndarray
@@ -41,39 +52,72 @@ def silverman_bandwidth(sd: float, iqr: float, n: int) -> float:
     return 0.9 * spread * n ** (-0.2)
 
 
-def kde_grid(sorted_values: np.ndarray, bandwidth: float) -> DensityGrid:
-    """Gaussian KDE of ``sorted_values`` on a regular grid by linear binning and FFT."""
-    lo = float(sorted_values[0]) - 4.0 * bandwidth
-    hi = float(sorted_values[-1]) + 4.0 * bandwidth
-    size = int(min(_MAX_GRID, max(_MIN_GRID, math.ceil(4.0 * (hi - lo) / bandwidth) + 1)))
+def _smoothed_counts(values: np.ndarray, bandwidth: float) -> tuple[np.ndarray, np.ndarray]:
+    """Grid and kernel-smoothed counts (kernel peak 1, unnormalised) for sorted values."""
+    lo = float(values[0]) - _REACH * bandwidth
+    hi = float(values[-1]) + _REACH * bandwidth
+    cells = _STEPS_PER_BANDWIDTH * (hi - lo) / bandwidth
+    size = int(min(_MAX_GRID, max(_MIN_GRID, math.ceil(cells) + 1))) if math.isfinite(cells) else _MAX_GRID
     step = (hi - lo) / (size - 1)
     # Linear binning ([2], section 2): each value shares its unit weight between the
     # two grid points around it.
-    position = (sorted_values - lo) / step
-    left = np.minimum(position.astype(np.int64), size - 2)
-    frac = position - left
+    position = (values - lo) / step
+    left = np.clip(position.astype(np.int64), 0, size - 2)
+    frac = np.clip(position - left, 0.0, 1.0)
     weights = np.bincount(left, weights=1.0 - frac, minlength=size)
     weights += np.bincount(left + 1, weights=frac, minlength=size)
-    # Kernel sampled on the grid out to 4 bandwidths, convolved by FFT.
-    half = int(math.ceil(4.0 * bandwidth / step))
-    offsets = np.arange(-half, half + 1) * step
-    kernel = np.exp(-0.5 * (offsets / bandwidth) ** 2) / (bandwidth * math.sqrt(2.0 * math.pi))
-    total = size + kernel.size - 1
-    fft_size = 1 << (total - 1).bit_length()
+    half = int(min(size, math.ceil(_REACH * bandwidth / step)))
+    offsets = np.arange(-half, half + 1) * (step / bandwidth)
+    kernel = np.exp(-0.5 * offsets * offsets)
+    fft_size = 1 << (size + kernel.size - 2).bit_length()
     conv = np.fft.irfft(np.fft.rfft(weights, fft_size) * np.fft.rfft(kernel, fft_size), fft_size)
-    density = np.maximum(conv[half : half + size], 0.0) / sorted_values.size
-    x = lo + step * np.arange(size)
-    return DensityGrid(x=x, density=density, bandwidth=bandwidth)
+    smoothed = np.maximum(conv[half : half + size], 0.0)
+    return lo + step * np.arange(size), smoothed
 
 
-def highest_peak(grid: DensityGrid) -> float:
-    """Location of the density's maximum, refined by a parabola through the three grid
-    points around it (exact for a locally quadratic peak)."""
-    i = int(np.argmax(grid.density))
-    if 0 < i < grid.x.size - 1:
-        y0, y1, y2 = grid.density[i - 1 : i + 2]
+def kde_grid(sorted_values: np.ndarray, bandwidth: float, total: int | None = None) -> DensityGrid:
+    """Gaussian KDE of ``sorted_values`` on a regular grid by linear binning and FFT.
+
+    ``total`` is the size of the whole sample when ``sorted_values`` is one cluster of it.
+    """
+    x, smoothed = _smoothed_counts(sorted_values, bandwidth)
+    n = sorted_values.size if total is None else total
+    return DensityGrid(x=x, density=smoothed / (n * bandwidth * math.sqrt(2.0 * math.pi)), bandwidth=bandwidth)
+
+
+def _refine(x: np.ndarray, y: np.ndarray, i: int) -> float:
+    """Vertex of the parabola through the three grid points around a maximum."""
+    if 0 < i < x.size - 1:
+        y0, y1, y2 = y[i - 1 : i + 2]
         denom = y0 - 2.0 * y1 + y2
         if denom < 0:
             shift = 0.5 * (y0 - y2) / denom
-            return float(grid.x[i] + shift * (grid.x[1] - grid.x[0]))
-    return float(grid.x[i])
+            return float(x[i] + shift * (x[1] - x[0]))
+    return float(x[i])
+
+
+def highest_peak(grid: DensityGrid) -> float:
+    """Location of a grid density's maximum, refined by a parabola (exact for a locally
+    quadratic peak)."""
+    return _refine(grid.x, grid.density, int(np.argmax(grid.density)))
+
+
+def kde_mode(sorted_values: np.ndarray, bandwidth: float) -> float:
+    """The highest peak of the Gaussian KDE, searched cluster by cluster (see module)."""
+    x = sorted_values
+    # A bandwidth below the data's own floating-point resolution cannot resolve anything.
+    bandwidth = max(bandwidth, 4.0 * float(np.spacing(max(abs(x[0]), abs(x[-1])))))
+    breaks = np.flatnonzero(np.diff(x) > 2.0 * _REACH * bandwidth) + 1
+    starts = np.concatenate([[0], breaks])
+    ends = np.concatenate([breaks, [x.size]])
+    counts = ends - starts
+    best_height, best_at = -1.0, float(x[0])
+    for k in np.argsort(-counts, kind="stable"):
+        if counts[k] <= best_height:  # a cluster's peak is at most its count (kernel peak 1)
+            break
+        grid, smoothed = _smoothed_counts(x[starts[k] : ends[k]], bandwidth)
+        i = int(np.argmax(smoothed))
+        if smoothed[i] > best_height:
+            best_height = float(smoothed[i])
+            best_at = min(max(_refine(grid, smoothed, i), float(x[starts[k]])), float(x[ends[k] - 1]))
+    return best_at

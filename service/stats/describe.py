@@ -25,7 +25,7 @@ from dataclasses import dataclass
 import numpy as np
 from scipy import special
 
-from .density import highest_peak, kde_grid, silverman_bandwidth
+from .density import kde_mode, silverman_bandwidth
 from .forms import Sample
 from .moments import Moments, central_moments, se_kurtosis, se_skewness
 from .pvalues import two_sided_normal
@@ -43,7 +43,8 @@ MAD_NORMAL_FACTOR = 1.0 / special.ndtri(0.75)
 MODE_METHOD = (
     "highest peak of a Gaussian kernel density estimate with Silverman's rule-of-thumb "
     "bandwidth (Silverman 1986, eq. 3.31), computed by linear binning and FFT on a grid "
-    "no coarser than a quarter bandwidth and refined by a parabola through the peak"
+    "no coarser than a quarter bandwidth (per cluster of the data) and refined by a "
+    "parabola through the peak"
 )
 
 
@@ -240,7 +241,7 @@ def within_sd_shares(sample: Sample | None, m: Moments) -> WithinSd:
 def sample_mode(sample: Sample, m: Moments, order: OrderStats) -> float:
     iqr = order.q3 - order.q1
     bandwidth = silverman_bandwidth(m.sd, iqr, sample.n)
-    return highest_peak(kde_grid(sample.sorted, bandwidth))
+    return kde_mode(sample.sorted, bandwidth)
 
 
 def _methods(options: DescribeOptions) -> Methods:

@@ -48,6 +48,17 @@ class Moments:
     m2: float
     g1: float | None = None
     g2: float | None = None
+    # The mean as anchor + offset: the anchor is a float near the data (so x - anchor is
+    # exact, Sterbenz) and the offset is small, so the pair holds the mean to more than
+    # double precision when the data share a large offset (values near 1e13, sd 0.1).
+    anchor: float | None = None
+    offset: float = 0.0
+
+    def centred(self, values: np.ndarray) -> np.ndarray:
+        """``values - mean``, without the rounding of the mean itself."""
+        if self.anchor is None:
+            return values - self.mean
+        return (values - self.anchor) - self.offset
 
     @property
     def variance(self) -> float:
@@ -89,7 +100,7 @@ def central_moments(values: np.ndarray) -> Moments:
     mean = provisional + correction
     largest = float(np.max(np.abs(d))) if n else 0.0
     if largest == 0.0:
-        return Moments(n=n, mean=mean, m2=0.0)
+        return Moments(n=n, mean=mean, m2=0.0, anchor=provisional, offset=correction)
     scale = 2.0 ** math.frexp(largest)[1]
     d /= scale
     d2 = d * d
@@ -97,7 +108,7 @@ def central_moments(values: np.ndarray) -> Moments:
     m2 = c2 * scale * scale
     g1 = float(np.dot(d2, d)) / n / c2**1.5 if n >= 3 else None
     g2 = float(np.dot(d2, d2)) / n / (c2 * c2) - 3.0 if n >= 4 else None
-    return Moments(n=n, mean=mean, m2=m2, g1=g1, g2=g2)
+    return Moments(n=n, mean=mean, m2=m2, g1=g1, g2=g2, anchor=provisional, offset=correction)
 
 
 def skewness_from_g1(g1: float, n: int, convention: str) -> float:
@@ -144,6 +155,8 @@ def se_skewness(n: int) -> float:
     ``sqrt(6n(n-1) / ((n-2)(n+1)(n+3)))``, the exact variance of G1 under normality
     ([1], section 3). It does not hold for non-normal data.
     """
+    if n < 3:
+        raise ValueError(f"se_skewness requires n >= 3; got n={n}")
     return math.sqrt(6.0 * n * (n - 1) / ((n - 2) * (n + 1) * (n + 3)))
 
 
@@ -153,4 +166,6 @@ def se_kurtosis(n: int) -> float:
     ``2 * se_skewness(n) * sqrt((n**2 - 1) / ((n - 3)(n + 5)))``, the exact variance of
     G2 under normality ([1], section 3). It does not hold for non-normal data.
     """
+    if n < 4:
+        raise ValueError(f"se_kurtosis requires n >= 4; got n={n}")
     return 2.0 * se_skewness(n) * math.sqrt((n * n - 1.0) / ((n - 3) * (n + 5)))

@@ -67,4 +67,8 @@ def quantiles_sorted(sorted_values: np.ndarray, probs, definition: str = "hf7") 
     g = h - j
     lower = np.clip(j, 1, n).astype(np.int64) - 1
     upper = np.clip(j + 1, 1, n).astype(np.int64) - 1
-    return (1.0 - g) * sorted_values[lower] + g * sorted_values[upper]
+    a, b = sorted_values[lower], sorted_values[upper]
+    # numpy's lerp: from the nearer end, so equal neighbours give exactly that value and
+    # the result never leaves [a, b].
+    diff = b - a
+    return np.where(g >= 0.5, b - diff * (1.0 - g), a + diff * g)

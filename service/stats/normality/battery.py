@@ -58,10 +58,10 @@ def run_tests(sample: Sample, alpha: float, moments: Moments | None = None) -> T
     m = central_moments(sample.values) if moments is None else moments
     s = sample.sorted
     n = sample.n
-    std = edf_tests.Standardised(s, m.mean, m.sd)
+    std = edf_tests.Standardised(s, m)
     return Tests(
         shapiro_wilk=regression_tests.shapiro_wilk(s, alpha),
-        shapiro_francia=regression_tests.shapiro_francia(s, alpha),
+        shapiro_francia=regression_tests.shapiro_francia(s, alpha, m),
         dagostino_pearson=moment_tests.dagostino_pearson(n, m.g1, m.g2, alpha),
         skewness_test=moment_tests.skewness_test(n, m.g1, alpha),
         kurtosis_test=moment_tests.kurtosis_test(n, m.g2, alpha),

@@ -25,6 +25,7 @@ import math
 import numpy as np
 from scipy import special
 
+from ..moments import Moments
 from ..results import Method
 from .result import TestResult, not_applicable, outcome
 
@@ -58,9 +59,9 @@ class Standardised:
     """The sorted sample standardised with its mean and sample sd, and the normal
     cdf of each value, computed once for all EDF tests."""
 
-    def __init__(self, sorted_values: np.ndarray, mean: float, sd: float):
+    def __init__(self, sorted_values: np.ndarray, moments: Moments):
         self.n = int(sorted_values.shape[0])
-        self.z = (sorted_values - mean) / sd
+        self.z = moments.centred(sorted_values) / moments.sd
         self.cdf = special.ndtr(self.z)
 
 

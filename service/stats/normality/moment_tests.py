@@ -91,24 +91,24 @@ def kurtosis_z(n: int, g2: float) -> float:
     return (term1 - term2) / math.sqrt(2.0 / (9.0 * a))
 
 
+def _too_few(method: Method, minimum: int, n: int) -> TestResult:
+    return not_applicable(method, f"requires at least {minimum} observations; only n={n} were given")
+
+
 def skewness_test(n: int, g1: float | None, alpha: float) -> TestResult:
+    if n < SKEWNESS_MIN_N:
+        return _too_few(SKEWNESS_TEST, SKEWNESS_MIN_N, n)
     if g1 is None:
         return not_applicable(SKEWNESS_TEST, "the input carries no skewness")
-    if n < SKEWNESS_MIN_N:
-        return not_applicable(
-            SKEWNESS_TEST, f"requires at least {SKEWNESS_MIN_N} observations; only n={n} were given"
-        )
     z = skewness_z(n, g1)
     return outcome(SKEWNESS_TEST, z, two_sided_normal(z), alpha)
 
 
 def kurtosis_test(n: int, g2: float | None, alpha: float) -> TestResult:
+    if n < KURTOSIS_MIN_N:
+        return _too_few(KURTOSIS_TEST, KURTOSIS_MIN_N, n)
     if g2 is None:
         return not_applicable(KURTOSIS_TEST, "the input carries no kurtosis")
-    if n < KURTOSIS_MIN_N:
-        return not_applicable(
-            KURTOSIS_TEST, f"requires at least {KURTOSIS_MIN_N} observations; only n={n} were given"
-        )
     z = kurtosis_z(n, g2)
     reason = None
     if n < KURTOSIS_ACCURATE_N:
@@ -117,12 +117,10 @@ def kurtosis_test(n: int, g2: float | None, alpha: float) -> TestResult:
 
 
 def dagostino_pearson(n: int, g1: float | None, g2: float | None, alpha: float) -> TestResult:
+    if n < SKEWNESS_MIN_N:
+        return _too_few(OMNIBUS_TEST, SKEWNESS_MIN_N, n)
     if g1 is None or g2 is None:
         return not_applicable(OMNIBUS_TEST, "needs both skewness and kurtosis")
-    if n < SKEWNESS_MIN_N:
-        return not_applicable(
-            OMNIBUS_TEST, f"requires at least {SKEWNESS_MIN_N} observations; only n={n} were given"
-        )
     k2 = skewness_z(n, g1) ** 2 + kurtosis_z(n, g2) ** 2
     reason = None
     if n < KURTOSIS_ACCURATE_N:
@@ -131,10 +129,10 @@ def dagostino_pearson(n: int, g1: float | None, g2: float | None, alpha: float) 
 
 
 def jarque_bera(n: int, g1: float | None, g2: float | None, alpha: float) -> TestResult:
+    if n < 4:
+        return _too_few(JARQUE_BERA, 4, n)
     if g1 is None or g2 is None:
         return not_applicable(JARQUE_BERA, "needs both skewness and kurtosis")
-    if n < 4:
-        return not_applicable(JARQUE_BERA, f"requires at least 4 observations; only n={n} were given")
     jb = n / 6.0 * (g1 * g1 + g2 * g2 / 4.0)  # [5], eq. (2.4)
     reason = None
     if n < JARQUE_BERA_ACCURATE_N:

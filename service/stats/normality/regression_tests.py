@@ -23,6 +23,7 @@ import numpy as np
 from scipy import special, stats
 
 from ..pvalues import upper_normal
+from ..moments import Moments
 from ..results import Method
 from .result import TestResult, not_applicable, outcome
 
@@ -65,7 +66,7 @@ def blom_scores(n: int) -> np.ndarray:
     return special.ndtri((i - 0.375) / (n + 0.25))
 
 
-def shapiro_francia(sorted_values: np.ndarray, alpha: float) -> TestResult:
+def shapiro_francia(sorted_values: np.ndarray, alpha: float, moments: Moments | None = None) -> TestResult:
     n = int(sorted_values.shape[0])
     if n < SHAPIRO_FRANCIA_MIN_N:
         return not_applicable(
@@ -73,7 +74,7 @@ def shapiro_francia(sorted_values: np.ndarray, alpha: float) -> TestResult:
             f"requires at least {SHAPIRO_FRANCIA_MIN_N} observations; only n={n} were given",
         )
     m = blom_scores(n)
-    d = sorted_values - sorted_values.mean()
+    d = moments.centred(sorted_values) if moments is not None else sorted_values - sorted_values.mean()
     # W' = (sum m_i x_(i))^2 / (sum m_i^2 * sum (x_i - mean)^2)   [3]; sum m_i = 0
     w = float(np.dot(m, d)) ** 2 / (float(np.dot(m, m)) * float(np.dot(d, d)))
     w = min(w, 1.0)

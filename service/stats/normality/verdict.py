@@ -7,7 +7,9 @@
   ``normal: null`` ("inconclusive"), not ``true``, below ``adequate_n``.
 * Large samples: every test rejects departures too small to matter, so the verdict also
   weighs the size of the departure (G1 and G2 against stated thresholds) and says
-  ``minor_departure`` when the test rejects but the shape is close to normal.
+  ``minor_departure`` when the test rejects but the shape is close to normal. "Large"
+  is from the n at which the primary test detects the reference alternative (skewness
+  1) 99% of the time; below it a rejection is never called minor.
 
 Default primary tests:
 
@@ -37,8 +39,8 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 from ..results import Unavailable
-from .power import adequate_n as tabulated_adequate_n
-from .power import power_against_skewness_one
+from .power import HIGH_POWER, power_against_skewness_one
+from .power import adequate_n as tabulated_n
 from .result import TestResult
 
 LABELS = ("insufficient_data", "inconclusive", "consistent_with_normal", "minor_departure", "not_normal")
@@ -149,7 +151,8 @@ def decide_normality(
     if adequate_n is None:
         # Where no table covers the test or alpha, fall back to the Shapiro-Wilk row at
         # the 5% level, the most common setting.
-        adequate_n = tabulated_adequate_n(primary, alpha) or tabulated_adequate_n("shapiro_wilk", 0.05) or 0
+        adequate_n = tabulated_n(primary, alpha) or tabulated_n("shapiro_wilk", 0.05) or 0
+    large_n = tabulated_n(primary, alpha, HIGH_POWER) or tabulated_n("shapiro_wilk", 0.05, HIGH_POWER) or 0
     reasons: list[str] = []
     if basis:
         reasons.append(basis)
@@ -172,7 +175,7 @@ def decide_normality(
 
     if result.reject:
         reasons.append(f"{primary} rejects normality ({_fmt_p(result)} < alpha={alpha:g})")
-        if practical.exceeds_thresholds is False:
+        if practical.exceeds_thresholds is False and n >= large_n:
             reasons.append(
                 f"but the departure is small: |G1|={abs(G1):.3g} < {skewness_threshold:g} and "
                 f"|G2|={abs(G2):.3g} < {kurtosis_threshold:g}; with n={n} the test detects "
@@ -184,6 +187,12 @@ def decide_normality(
                 reasons.append(
                     f"and the departure is large enough to matter: G1={G1:.3g}, G2={G2:.3g} "
                     f"(thresholds {skewness_threshold:g} and {kurtosis_threshold:g})"
+                )
+            elif practical.exceeds_thresholds is False:
+                reasons.append(
+                    f"G1={G1:.3g} and G2={G2:.3g} are below the thresholds, but with n={n} (below {large_n}) "
+                    "a rejection signals a departure the moments do not show (two groups, a gap, outliers), "
+                    "not a trivial one"
                 )
             label = "not_normal"
         reasons.append(support_line)

@@ -30,6 +30,7 @@ def _text(text: str) -> str:
 SETTINGS: dict[str, tuple[Any, Callable[[str], Any], str]] = {
     "MAX_BODY_BYTES": (64 * 1024 * 1024, _int, "largest request body accepted (413 beyond)"),
     "MAX_VALUES": (2_000_000, _int, "most values in one sample, missing ones included (413 beyond)"),
+    "MAX_PARTS": (100_000, _int, "most shard partials, or histogram bins, in one sample (413 beyond)"),
     "DEFAULT_ALPHA": (0.05, _float, "significance level when a request gives none"),
     "LOG_LEVEL": ("INFO", _text, "level of the service's own log lines"),
 }

@@ -8,41 +8,38 @@ from __future__ import annotations
 
 from flask import Blueprint, current_app
 
-from ..stats.describe import DescribeOptions, describe_sample
-from ..stats.forms import require_spread
-from ..stats.normality import NormalityOptions, normality_of_sample
+from ..stats import describe as describing
+from ..stats import normality as testing
 from .intake import read_sample_request
 from .output import document, respond
-from .schemas.describe import DescribeRequest
-from .schemas.normality import NormalityRequest
+from .schemas.describe import DescribeOptions, DescribeRequest
+from .schemas.normality import NormalityOptions, NormalityRequest
 
 bp = Blueprint("analysis", __name__, url_prefix="/v1")
 
 
 @bp.route("/describe", methods=["POST", "GET"])
 def describe():
-    req = read_sample_request(DescribeRequest)
-    require_spread(req.sample, minimum_n=2)
+    req = read_sample_request(DescribeRequest, DescribeOptions, minimum_n=2)
     o = req.options
-    options = DescribeOptions(
+    options = describing.DescribeOptions(
         quantile_definition=o["quantile_definition"],
         skewness_threshold=o["skewness_threshold"],
         kurtosis_threshold=o["kurtosis_threshold"],
     )
-    return respond(document(req.input, describe_sample(req.sample, options)))
+    return respond(document(req.input, describing.describe(req.profile, options)))
 
 
 @bp.route("/normality", methods=["POST", "GET"])
 def normality():
-    req = read_sample_request(NormalityRequest)
-    require_spread(req.sample, minimum_n=3)
+    req = read_sample_request(NormalityRequest, NormalityOptions, minimum_n=3)
     o = req.options
     alpha = o["alpha"] if o["alpha"] is not None else current_app.config["DEFAULT_ALPHA"]
-    options = NormalityOptions(
+    options = testing.NormalityOptions(
         alpha=alpha,
         primary_test=o["primary_test"],
         adequate_n=o["adequate_n"],
         skewness_threshold=o["skewness_threshold"],
         kurtosis_threshold=o["kurtosis_threshold"],
     )
-    return respond(document(req.input, normality_of_sample(req.sample, options)))
+    return respond(document(req.input, testing.normality(req.profile, options)))

@@ -1,9 +1,10 @@
-"""From an HTTP request to validated options and a ``Sample``.
+"""From an HTTP request to validated options and a sample ``Profile``.
 
 JSON bodies are parsed by orjson and their envelope validated by the endpoint's
-marshmallow schema; the values array is converted by :mod:`.values`. ``text/csv`` and
-``text/plain`` bodies (and ``GET ...?values=1,2,3``) go through :mod:`.text_input`,
-with the options taken from the query string through the same schema.
+marshmallow schema; the sample object (any of the four forms) is converted by
+:mod:`.sample_input`. ``text/csv`` and ``text/plain`` bodies (and ``GET ...?values=``)
+carry raw values, parsed by :mod:`.text_input`, with the options taken from the query
+string through the same schema.
 """
 
 from __future__ import annotations
@@ -14,11 +15,12 @@ import orjson
 from flask import current_app, request
 from marshmallow import Schema, ValidationError
 
-from ..stats.forms import Sample
+from ..stats.forms import Sample, require_spread
+from ..stats.profile import Profile, profile_of_sample
 from .errors import Problem
+from .sample_input import InputInfo, Limits, build_sample
 from .schemas.common import TextOptions
 from .text_input import parse_text_values
-from .values import parse_json_values
 
 JSON_TYPES = ("application/json",)
 TEXT_TYPES = ("text/csv", "text/plain")
@@ -26,18 +28,10 @@ TEXT_TYPES = ("text/csv", "text/plain")
 OUTPUT_PARAMS = ("format", "field")
 
 
-@dataclass(frozen=True)
-class InputInfo:
-    form: str
-    n: int
-    missing: int
-    label: str | None = None
-
-
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False)
 class SampleRequest:
     options: dict
-    sample: Sample
+    profile: Profile
     input: InputInfo
 
 
@@ -51,7 +45,7 @@ def validation_problem(err: ValidationError, prefix: str = "") -> Problem:
     def walk(messages, path):
         if isinstance(messages, dict):
             for key, sub in messages.items():
-                walk(sub, path + [key])
+                walk(sub, path + ([] if key == "_schema" else [key]))
         elif isinstance(messages, list) and messages and all(isinstance(m, str) for m in messages):
             for message in messages:
                 errors.append({"pointer": prefix + _pointer(path), "detail": message})
@@ -93,39 +87,44 @@ def load_options(schema: Schema, data: dict, prefix: str = "") -> dict:
         raise validation_problem(err, prefix) from None
 
 
-def _query_options() -> dict:
-    return {k: v for k, v in request.args.items() if k not in OUTPUT_PARAMS}
+def limits() -> Limits:
+    return Limits(max_values=current_app.config["MAX_VALUES"], max_parts=current_app.config["MAX_PARTS"])
 
 
-def read_sample_request(schema_cls: type[Schema]) -> SampleRequest:
-    """Parse the request for an endpoint whose schema has a ``values`` field."""
-    limit = current_app.config["MAX_VALUES"]
-    mimetype = request.mimetype
-    if request.method == "GET" or (mimetype in TEXT_TYPES):
-        query = _query_options()
-        if request.method == "GET":
-            if "values" not in query:
-                raise Problem("invalid-request", "GET needs the sample in the query: ?values=1.2,3.4,5",
-                              errors=[{"pointer": "/values", "detail": "missing"}])
-            text = query.pop("values")
-        else:
-            text = request.get_data(as_text=True, cache=False)
-        text_opts = load_options(TextOptions(), {k: query.pop(k) for k in list(query) if k in TextOptions().fields})
-        options = load_options(schema_cls(exclude=("values",)), query)
-        parsed = parse_text_values(text, decimal=text_opts["decimal"], column=text_opts["column"],
-                                   missing=options["missing"], max_values=limit)
-        sample = Sample(parsed.values, parsed.missing)
-        return SampleRequest(options, sample, InputInfo("values", sample.n, parsed.missing, parsed.label))
-    if mimetype in JSON_TYPES or mimetype.endswith("+json"):
-        body = load_json_body()
-        raw_values = body.get("values")
-        options = load_options(schema_cls(), body)
-        if raw_values is None:
-            raise Problem("invalid-request", "the request needs a sample: \"values\": [numbers]",
+def _text_sample(options_cls: type[Schema], minimum_n: int) -> SampleRequest:
+    query = {k: v for k, v in request.args.items() if k not in OUTPUT_PARAMS}
+    if request.method == "GET":
+        if "values" not in query:
+            raise Problem("invalid-request", "GET needs the sample in the query: ?values=1.2,3.4,5",
                           errors=[{"pointer": "/values", "detail": "missing"}])
-        parsed = parse_json_values(raw_values, pointer="/values", max_values=limit, missing=options["missing"])
-        sample = Sample(parsed.values, parsed.missing)
-        return SampleRequest(options, sample, InputInfo("values", sample.n, parsed.missing))
+        text = query.pop("values")
+    else:
+        text = request.get_data(as_text=True, cache=False)
+    text_fields = TextOptions().fields
+    text_opts = load_options(TextOptions(), {k: query.pop(k) for k in list(query) if k in text_fields})
+    missing = query.pop("missing", "drop")
+    if missing not in ("drop", "reject"):
+        raise Problem("invalid-request", "missing must be drop or reject", errors=[{"pointer": "/missing", "detail": f"got {missing!r}"}])
+    options = load_options(options_cls(), query)
+    parsed = parse_text_values(text, decimal=text_opts["decimal"], column=text_opts["column"],
+                               missing=missing, max_values=limits().max_values)
+    sample = Sample(parsed.values, parsed.missing)
+    require_spread(sample, minimum_n=minimum_n)
+    profile = profile_of_sample(sample, options.get("quantile_definition", "hf7"))
+    return SampleRequest(options, profile, InputInfo("values", sample.n, parsed.missing, parsed.label))
+
+
+def read_sample_request(schema_cls: type[Schema], options_cls: type[Schema], *, minimum_n: int = 2) -> SampleRequest:
+    """Parse the request of a one-sample endpoint: ``schema_cls`` is its JSON body (a
+    ``SampleObject`` with options), ``options_cls`` the options alone (the query string
+    of a text body)."""
+    mimetype = request.mimetype
+    if request.method == "GET" or mimetype in TEXT_TYPES:
+        return _text_sample(options_cls, minimum_n)
+    if mimetype in JSON_TYPES or mimetype.endswith("+json"):
+        options = load_options(schema_cls(), load_json_body())
+        built = build_sample(options, limits(), quantile_definition=options.get("quantile_definition", "hf7"), minimum_n=minimum_n)
+        return SampleRequest(options, built.profile, built.input)
     raise Problem(
         "unsupported-media-type",
         f"Content-Type {mimetype or '(none)'} is not accepted here; send application/json, text/csv or text/plain",

@@ -20,7 +20,7 @@ from flask import Response, request
 from .. import __version__
 from ..stats.results import Unavailable
 from .errors import Problem
-from .intake import InputInfo
+from .sample_input import InputInfo
 
 CAUTION = (
     "A screening aid, not a substitute for a qualified statistician. For health, safety or "

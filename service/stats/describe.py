@@ -26,17 +26,15 @@ import numpy as np
 from scipy import special
 
 from .density import kde_mode, silverman_bandwidth
+from .thresholds import DEFAULT_KURTOSIS_THRESHOLD, DEFAULT_SKEWNESS_THRESHOLD
 from .forms import Sample
-from .moments import Moments, central_moments, se_kurtosis, se_skewness
+from .histogram import binned_mode, binned_share, extreme_bin
+from .moments import Moments, se_kurtosis, se_skewness
+from .profile import Profile, profile_of_sample
 from .pvalues import two_sided_normal
-from .quantiles import DESCRIPTIONS, quantiles_sorted
+from .quantiles import DESCRIPTIONS
 from .results import Notice, Unavailable
 
-# [2]: |skewness| < 0.5 is approximately symmetric.
-DEFAULT_SKEWNESS_THRESHOLD = 0.5
-# Common practice: |excess kurtosis| < 1 reads as mesokurtic (no published source
-# settles this; the threshold is an option).
-DEFAULT_KURTOSIS_THRESHOLD = 1.0
 # 1 / Phi^{-1}(3/4): makes the MAD a consistent estimate of sigma for normal data [4].
 MAD_NORMAL_FACTOR = 1.0 / special.ndtri(0.75)
 
@@ -115,6 +113,7 @@ class WithinSd:
 
 @dataclass(frozen=True)
 class Methods:
+    moments: str
     quantiles: str
     mode: str
     mad: str
@@ -131,27 +130,6 @@ class Description:
     within_sd: WithinSd
     methods: Methods
     warnings: tuple[Notice, ...]
-
-
-@dataclass(frozen=True)
-class OrderStats:
-    """Order statistics a form can give; ``None`` where it cannot."""
-
-    minimum: float | None = None
-    q1: float | None = None
-    median: float | None = None
-    q3: float | None = None
-    maximum: float | None = None
-
-
-def order_stats(sample: Sample, definition: str) -> OrderStats:
-    s = sample.sorted
-    q1, med, q3 = quantiles_sorted(s, (0.25, 0.5, 0.75), definition)
-    return OrderStats(float(s[0]), float(q1), float(med), float(q3), float(s[-1]))
-
-
-def _or_unavailable(value: float | None, reason: str) -> float | Unavailable:
-    return Unavailable(reason) if value is None else float(value)
 
 
 def skewness_label(g: float, threshold: float) -> str:
@@ -175,11 +153,31 @@ def normal_share(k: float) -> float:
     return float(special.erf(k / math.sqrt(2.0)))
 
 
-def skewness_block(m: Moments, order: OrderStats, mode: float | None, options: DescribeOptions) -> Skewness:
+def _order(profile: Profile, name: str) -> float | Unavailable:
+    """One order statistic, or why this form cannot give it."""
+    value = getattr(profile.order, name)
+    if value is not None:
+        return float(value)
+    label = {"minimum": "min", "maximum": "max", "median": "median", "q1": "q1", "q3": "q3"}[name]
+    if profile.form == "summary":
+        return Unavailable(f"{label} was not given in the summary")
+    if profile.form == "partials":
+        if name in ("minimum", "maximum"):
+            return Unavailable(f"{label} was not given by every shard")
+        return Unavailable("shard partials carry no quantiles")
+    if profile.form == "histogram":
+        if name in ("minimum", "maximum"):
+            return Unavailable(f"binned data: the {'smallest' if name == 'minimum' else 'largest'} value lies in {extreme_bin(profile.histogram, name == 'minimum')}")
+        return Unavailable(f"binned data: the {label} falls in an open-ended bin")
+    return Unavailable(f"{label} is not available for {profile.form}")
+
+
+def skewness_block(profile: Profile, mode: float | Unavailable, options: DescribeOptions) -> Skewness:
+    m = profile.moments
     n = m.n
     sd = m.sd
     if m.g1 is None:
-        why = "skewness needs n >= 3" if n < 3 else "the input carries no third moment"
+        why = "skewness needs n >= 3" if n < 3 else "the input carries no skewness"
         missing = Unavailable(why)
         G1 = g1 = b1 = se = z = p = label = missing
     else:
@@ -190,24 +188,28 @@ def skewness_block(m: Moments, order: OrderStats, mode: float | None, options: D
         z = G1 / se
         p = two_sided_normal(z)
         label = skewness_label(G1, options.skewness_threshold)
-    med = order.median
-    pearson_median = (
-        Unavailable("needs the median") if med is None else 3.0 * (m.mean - med) / sd
-    )
-    pearson_mode = Unavailable("needs the mode, which needs raw values") if mode is None else (m.mean - mode) / sd
-    if order.q1 is None or order.q3 is None or med is None:
-        quartile = Unavailable("needs the quartiles and the median")
-    elif order.q3 == order.q1:
+    med, q1, q3 = _order(profile, "median"), _order(profile, "q1"), _order(profile, "q3")
+    if isinstance(med, Unavailable):
+        pearson_median: float | Unavailable = Unavailable(f"needs the median: {med.reason}")
+    else:
+        pearson_median = 3.0 * (m.mean - med) / sd  # [3]
+    if isinstance(mode, Unavailable):
+        pearson_mode: float | Unavailable = Unavailable(f"needs the mode: {mode.reason}")
+    else:
+        pearson_mode = (m.mean - mode) / sd  # [3]
+    if any(isinstance(v, Unavailable) for v in (q1, med, q3)):
+        quartile: float | Unavailable = Unavailable("needs the quartiles and the median")
+    elif q3 == q1:
         quartile = Unavailable("the interquartile range is zero")
     else:
-        quartile = (order.q3 + order.q1 - 2.0 * med) / (order.q3 - order.q1)  # [3] Bowley
+        quartile = (q3 + q1 - 2.0 * med) / (q3 - q1)  # [3] Bowley
     return Skewness(G1, g1, b1, se, z, p, pearson_median, pearson_mode, quartile, label)
 
 
 def kurtosis_block(m: Moments, options: DescribeOptions) -> Kurtosis:
     n = m.n
     if m.g2 is None:
-        why = "kurtosis needs n >= 4" if n < 4 else "the input carries no fourth moment"
+        why = "kurtosis needs n >= 4" if n < 4 else "the input carries no kurtosis"
         missing = Unavailable(why)
         return Kurtosis(missing, missing, missing, missing, missing, missing, missing)
     G2 = m.excess_kurtosis("G2")
@@ -224,30 +226,56 @@ def kurtosis_block(m: Moments, options: DescribeOptions) -> Kurtosis:
     )
 
 
-def within_sd_shares(sample: Sample | None, m: Moments) -> WithinSd:
+def within_sd_shares(profile: Profile) -> WithinSd:
+    m = profile.moments
     shares = []
     for k in (1, 2, 3):
-        if sample is None:
-            observed: float | Unavailable = Unavailable("needs raw values")
+        lo, hi = m.mean - k * m.sd, m.mean + k * m.sd
+        if profile.sample is not None:
+            s = profile.sample.sorted
+            inside = np.searchsorted(s, hi, side="right") - np.searchsorted(s, lo, side="left")
+            observed: float | Unavailable = float(inside) / profile.sample.n
+        elif profile.histogram is not None:
+            observed = binned_share(profile.histogram, lo, hi)
         else:
-            s = sample.sorted
-            lo = np.searchsorted(s, m.mean - k * m.sd, side="left")
-            hi = np.searchsorted(s, m.mean + k * m.sd, side="right")
-            observed = float(hi - lo) / sample.n
+            observed = Unavailable(f"needs raw values or a histogram, not {profile.form}")
         shares.append(Share(observed=observed, normal=normal_share(k)))
     return WithinSd(*shares)
 
 
-def sample_mode(sample: Sample, m: Moments, order: OrderStats) -> float:
-    iqr = order.q3 - order.q1
-    bandwidth = silverman_bandwidth(m.sd, iqr, sample.n)
-    return kde_mode(sample.sorted, bandwidth)
+def _mode(profile: Profile) -> float | Unavailable:
+    if profile.sample is not None:
+        m, order = profile.moments, profile.order
+        bandwidth = silverman_bandwidth(m.sd, order.q3 - order.q1, profile.n)
+        return kde_mode(profile.sample.sorted, bandwidth)
+    if profile.histogram is not None:
+        return binned_mode(profile.histogram)
+    return Unavailable(f"needs raw values or a histogram, not {profile.form}")
 
 
-def _methods(options: DescribeOptions) -> Methods:
+def _spread_from_values(profile: Profile) -> tuple[float | Unavailable, float | Unavailable]:
+    if profile.sample is None:
+        why = Unavailable(f"needs raw values, not {profile.form}")
+        return why, why
+    mad = float(np.median(np.abs(profile.sample.values - profile.order.median)))
+    return mad, mad * MAD_NORMAL_FACTOR
+
+
+def _methods(profile: Profile, options: DescribeOptions) -> Methods:
+    form = profile.form
+    if form == "values":
+        quantiles = f"{options.quantile_definition}: {DESCRIPTIONS[options.quantile_definition]}"
+        mode = MODE_METHOD
+    elif form == "histogram":
+        quantiles = "grouped-data quantiles: linear interpolation of the cumulative counts within a bin"
+        mode = BINNED_MODE_METHOD
+    else:
+        quantiles = "as given" if form == "summary" else "none: shard partials carry no quantiles"
+        mode = f"not available from {form}"
     return Methods(
-        quantiles=f"{options.quantile_definition}: {DESCRIPTIONS[options.quantile_definition]}",
-        mode=MODE_METHOD,
+        moments=MOMENT_METHODS[form](profile),
+        quantiles=quantiles,
+        mode=mode,
         mad=(
             "mad is the median absolute deviation from the median, unscaled; mad_normal is "
             "1.4826 * mad, consistent for the standard deviation of normal data (Rousseeuw & Croux 1993)"
@@ -264,45 +292,41 @@ def _methods(options: DescribeOptions) -> Methods:
     )
 
 
-def describe_sample(sample: Sample, options: DescribeOptions = DescribeOptions(), moments: Moments | None = None) -> Description:
-    """Describe raw values: every field available."""
-    m = central_moments(sample.values) if moments is None else moments
-    order = order_stats(sample, options.quantile_definition)
-    mode = sample_mode(sample, m, order)
-    abs_dev = np.abs(sample.values - order.median)
-    mad = float(np.median(abs_dev))
-    spread = Spread(
-        sd=m.sd,
-        variance=m.variance,
-        min=order.minimum,
-        max=order.maximum,
-        q1=order.q1,
-        q3=order.q3,
-        iqr=order.q3 - order.q1,
-        mad=mad,
-        mad_normal=mad * MAD_NORMAL_FACTOR,
-    )
+MOMENT_METHODS = {
+    "values": lambda p: "corrected two-pass central moments of the raw values (Chan, Golub & LeVeque 1983)",
+    "summary": lambda p: "as given in the summary, converted to every convention for the given n (Joanes & Gill 1998)",
+    "partials": lambda p: "shard partials merged exactly by the pairwise update formulas (Chan, Golub & LeVeque 1979; Pebay 2008)",
+    "histogram": lambda p: (
+        "binned moments from bin midpoints (values in open-ended bins at the fitted normal's conditional mean); "
+        + ("Sheppard's corrections applied" if p.sheppard_applied else "no Sheppard's correction")
+    ),
+}
+BINNED_MODE_METHOD = (
+    "midpoint of the highest-density bin (count / width), refined by a parabola through its own and its "
+    "neighbours' densities and kept inside the bin"
+)
+
+
+def describe(profile: Profile, options: DescribeOptions = DescribeOptions()) -> Description:
+    """Describe a sample in any form; what the form cannot give is ``Unavailable``."""
+    m = profile.moments
+    mode = _mode(profile)
+    mad, mad_normal = _spread_from_values(profile)
+    lo, hi = _order(profile, "minimum"), _order(profile, "maximum")
+    q1, q3, med = _order(profile, "q1"), _order(profile, "q3"), _order(profile, "median")
+    iqr = q3 - q1 if not isinstance(q1, Unavailable) and not isinstance(q3, Unavailable) else Unavailable("needs both quartiles")
+    spread = Spread(sd=m.sd, variance=m.variance, min=lo, max=hi, q1=q1, q3=q3, iqr=iqr, mad=mad, mad_normal=mad_normal)
     return Description(
-        location=Location(mean=m.mean, median=order.median, mode=mode),
+        location=Location(mean=m.mean, median=med, mode=mode),
         spread=spread,
-        skewness=skewness_block(m, order, mode, options),
+        skewness=skewness_block(profile, mode, options),
         kurtosis=kurtosis_block(m, options),
-        within_sd=within_sd_shares(sample, m),
-        methods=_methods(options),
-        warnings=sample_notices(sample),
+        within_sd=within_sd_shares(profile),
+        methods=_methods(profile, options),
+        warnings=profile.notices,
     )
 
 
-def sample_notices(sample: Sample) -> tuple[Notice, ...]:
-    """Warnings every analysis of raw values shares."""
-    notices = []
-    if sample.n_distinct < 0.5 * sample.n:
-        notices.append(
-            Notice(
-                "many-ties",
-                f"only {sample.n_distinct} distinct values among n={sample.n}: the data look "
-                "rounded or discrete, and tests made for continuous data may reject because "
-                "of the rounding alone",
-            )
-        )
-    return tuple(notices)
+def describe_sample(sample: Sample, options: DescribeOptions = DescribeOptions()) -> Description:
+    """Describe raw values: every field available."""
+    return describe(profile_of_sample(sample, options.quantile_definition), options)

@@ -1,5 +1,6 @@
-"""Histograms as input: binned moments, binned quantiles, the modal bin, a normal fitted
-by maximum likelihood to the grouped data, and the chi-square test of that fit.
+"""Histograms as input: binned moments, binned quantiles, the modal bin, and a normal
+fitted by maximum likelihood to the grouped data (the chi-square test of that fit is in
+``normality/binned_tests.py``).
 
 Monitoring histograms often have open-ended outer bins (``-inf`` / ``+inf`` edges). The
 normal is fitted to the grouped data by maximum likelihood, which handles open bins
@@ -13,11 +14,6 @@ References
        scale. *Proc. London Math. Soc.* s1-29(1), 353-380. doi:10.1112/plms/s1-29.1.353
 .. [2] Kendall, M. G. and Stuart, A. (1977). *The Advanced Theory of Statistics*, vol. 1,
        4th ed. Griffin. Sections 3.18-3.20 (Sheppard's corrections to m2 and m4).
-.. [3] Cochran, W. G. (1954). Some methods for strengthening the common chi-square
-       tests. *Biometrics* 10(4), 417-451. doi:10.2307/3001616 (expected counts of at least 5).
-.. [4] Cramér, H. (1946). *Mathematical Methods of Statistics*. Princeton. Section 30.3:
-       with parameters estimated from the grouped data by maximum likelihood, X^2 has
-       k - 1 - 2 degrees of freedom.
 """
 
 from __future__ import annotations
@@ -30,17 +26,8 @@ from scipy import optimize, special
 
 from .errors import DataError
 from .moments import Moments
-from .normality.result import TestResult, not_applicable, outcome
-from .pvalues import chi2_upper
-from .results import Method, Notice, Unavailable
+from .results import Notice, Unavailable
 
-CHI_SQUARE = Method(
-    "Pearson chi-square test of the binned counts against a normal fitted by grouped-data "
-    "maximum likelihood; classes merged until every expected count is at least 5; "
-    "k - 3 degrees of freedom",
-    "Cochran (1954), Biometrics 10(4):417-451; Cramer (1946), Mathematical Methods of Statistics, section 30.3",
-)
-MIN_EXPECTED = 5.0  # [3], common practice
 _MAX_ITERATIONS = 200
 
 
@@ -91,12 +78,14 @@ def check_histogram(edges, counts) -> Histogram:
     if not np.isfinite(c).all() or (c < 0).any() or (c != np.round(c)).any():
         i = int(np.argmax(~np.isfinite(c) | (c < 0) | (c != np.round(c))))
         raise InvalidHistogram(f"counts are non-negative whole numbers; count {i} is {c[i]!r}", pointer=f"/histogram/counts/{i}")
+    if c.sum() < 2:
+        raise InvalidHistogram(f"the counts add up to {int(c.sum())}; at least 2 values are needed", pointer="/histogram/counts")
     if np.isinf(e[0]) and c[0] > 0 and np.isinf(e[-1]) and c[-1] > 0 and c.size == 2:
         raise InvalidHistogram("two open-ended bins alone say nothing about spread", pointer="/histogram/edges")
     return Histogram(e, c)
 
 
-def _bin_probabilities(z_lo: np.ndarray, z_hi: np.ndarray) -> np.ndarray:
+def bin_probabilities(z_lo: np.ndarray, z_hi: np.ndarray) -> np.ndarray:
     """P(z_lo < Z <= z_hi), taken from whichever tail keeps precision."""
     upper = z_lo > 0
     p = np.where(upper, special.ndtr(-z_lo) - special.ndtr(-z_hi), special.ndtr(z_hi) - special.ndtr(z_lo))
@@ -124,7 +113,7 @@ def fit_normal(h: Histogram) -> NormalFit:
         mu, log_s = theta
         s = math.exp(log_s)
         z = (scaled - mu) / s
-        p = _bin_probabilities(z[:-1], z[1:])
+        p = bin_probabilities(z[:-1], z[1:])
         pdf = np.where(np.isfinite(z), np.exp(-0.5 * np.where(np.isfinite(z), z, 0.0) ** 2) / math.sqrt(2 * math.pi), 0.0)
         zpdf = np.where(np.isfinite(z), np.where(np.isfinite(z), z, 0.0) * pdf, 0.0)
         f = -float(np.dot(h.counts, np.log(p)))
@@ -238,6 +227,39 @@ def binned_quantile(h: Histogram, p: float) -> float | Unavailable:
     return float(a + (target - cum[i]) / h.counts[i] * (b - a))
 
 
+def binned_cdf(h: Histogram, x: float) -> float | Unavailable:
+    """Share of the counts at or below x, interpolating linearly within a bin."""
+    e = h.edges
+    if x <= e[0]:
+        return 0.0
+    if x >= e[-1]:
+        return 1.0
+    i = int(np.searchsorted(e, x, side="right")) - 1
+    a, b = e[i], e[i + 1]
+    below = float(h.counts[:i].sum())
+    if h.counts[i] == 0:
+        return below / h.n
+    if not (math.isfinite(a) and math.isfinite(b)):
+        return Unavailable(f"{x:.6g} falls in an open-ended bin")
+    return (below + h.counts[i] * (x - a) / (b - a)) / h.n
+
+
+def binned_share(h: Histogram, lo: float, hi: float) -> float | Unavailable:
+    """Share of the counts in [lo, hi] by :func:`binned_cdf`."""
+    upper, lower = binned_cdf(h, hi), binned_cdf(h, lo)
+    for end in (upper, lower):
+        if isinstance(end, Unavailable):
+            return end
+    return upper - lower
+
+
+def extreme_bin(h: Histogram, lowest: bool) -> str:
+    """The first (or last) bin holding counts, written as an interval."""
+    held = np.flatnonzero(h.counts > 0)
+    i = int(held[0] if lowest else held[-1])
+    return f"[{h.edges[i]:g}, {h.edges[i + 1]:g}]"
+
+
 def binned_mode(h: Histogram) -> float | Unavailable:
     """Midpoint of the highest-density closed bin, refined by a parabola through its own
     and its neighbours' densities (count / width) and kept inside the bin."""
@@ -255,43 +277,3 @@ def binned_mode(h: Histogram) -> float | Unavailable:
             vertex = -coef[1] / (2.0 * coef[0])
             return float(min(max(vertex, h.edges[i]), h.edges[i + 1]))
     return float(mids[i])
-
-
-def _merge_classes(observed: np.ndarray, expected: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """Pool adjacent classes left to right until each expected count reaches MIN_EXPECTED;
-    a short last group joins the one before it."""
-    groups_o, groups_e = [], []
-    acc_o = acc_e = 0.0
-    for o, e in zip(observed, expected):
-        acc_o += o
-        acc_e += e
-        if acc_e >= MIN_EXPECTED:
-            groups_o.append(acc_o)
-            groups_e.append(acc_e)
-            acc_o = acc_e = 0.0
-    if acc_e > 0 or acc_o > 0:
-        if groups_e:
-            groups_o[-1] += acc_o
-            groups_e[-1] += acc_e
-        else:
-            groups_o.append(acc_o)
-            groups_e.append(acc_e)
-    return np.array(groups_o), np.array(groups_e)
-
-
-def chi_square_test(h: Histogram, fit: NormalFit, alpha: float) -> TestResult:
-    edges = h.edges.copy()
-    edges[0], edges[-1] = -math.inf, math.inf
-    z = (edges - fit.mean) / fit.sd
-    expected = h.n * _bin_probabilities(z[:-1], z[1:])
-    observed, expected = _merge_classes(h.counts, expected)
-    df = observed.size - 3
-    if df < 1:
-        return not_applicable(
-            CHI_SQUARE,
-            f"after pooling classes to expected counts of at least {MIN_EXPECTED:g}, {observed.size} classes remain; "
-            "the test needs at least 4 (more bins or more data)",
-        )
-    statistic = float(np.sum((observed - expected) ** 2 / expected))
-    reason = None if fit.converged else "the grouped-data fit stopped at its iteration limit"
-    return outcome(CHI_SQUARE, statistic, chi2_upper(statistic, df), alpha, reason=reason)

@@ -58,7 +58,21 @@ def profile_of_sample(sample: Sample, quantile_definition: str = "hf7") -> Profi
     s = sample.sorted
     q1, med, q3 = quantiles_sorted(s, (0.25, 0.5, 0.75), quantile_definition)
     order = OrderStats(float(s[0]), float(q1), float(med), float(q3), float(s[-1]))
-    return Profile("values", central_moments(sample.values), order, sample=sample)
+    return Profile("values", central_moments(sample.values), order, sample=sample, notices=sample_notices(sample))
+
+
+def sample_notices(sample: Sample) -> tuple[Notice, ...]:
+    """Warnings every analysis of raw values shares."""
+    if sample.n_distinct < 0.5 * sample.n:
+        return (
+            Notice(
+                "many-ties",
+                f"only {sample.n_distinct} distinct values among n={sample.n}: the data look "
+                "rounded or discrete, and tests made for continuous data may reject because "
+                "of the rounding alone",
+            ),
+        )
+    return ()
 
 
 def profile_of_summary(summary: Summary) -> Profile:

@@ -24,7 +24,7 @@ class TestDescribeJson:
         doc = r.get_json()
         conforms(doc, "DescribeResponse")
         values = np.array([v for v in demo_payload["values"] if v is not None])
-        assert doc["input"] == {"form": "values", "n": values.size, "missing": 2, "label": None}
+        assert doc["input"] == {"form": "values", "n": values.size, "missing": 2, "label": None, "shards": None, "bins": None}
         # Reference: scipy.stats.skew / kurtosis with bias=False (the G1 / G2 conventions).
         assert doc["skewness"]["G1"] == pytest.approx(scipy.stats.skew(values, bias=False), rel=1e-12)
         assert doc["kurtosis"]["G2"] == pytest.approx(scipy.stats.kurtosis(values, bias=False), rel=1e-12)

@@ -8,7 +8,7 @@ import scipy.stats
 
 TEST_NAMES = [
     "shapiro_wilk", "shapiro_francia", "dagostino_pearson", "skewness_test", "kurtosis_test",
-    "anderson_darling", "lilliefors", "cramer_von_mises", "jarque_bera",
+    "anderson_darling", "lilliefors", "cramer_von_mises", "jarque_bera", "chi_square",
 ]
 
 

@@ -253,6 +253,8 @@ class TestRequireSpread:
         assert_allclose(d.kurtosis.G2, ref.kurtosis.G2, rtol=1e-12)
         assert_allclose(d.spread.sd, ref.spread.sd * scale, rtol=1e-12)
         for name, t in r.tests.as_dict().items():
+            if name == "chi_square":  # histograms only
+                continue
             assert t.p_value is not None and 0.0 <= t.p_value <= 1.0, name
             assert math.isfinite(t.statistic), name
 

@@ -143,7 +143,7 @@ class TestDecideNormality:
     def test_default_primary_without_raw_values(self):
         # A summary carries only the moment tests: K^2 decides.
         moment_only = {k: passing() for k in ("dagostino_pearson", "skewness_test", "kurtosis_test", "jarque_bera")}
-        assert default_primary(50, moment_only) == "dagostino_pearson"
+        assert default_primary(50, moment_only, form="summary") == "dagostino_pearson"
 
     @pytest.mark.parametrize("primary", ["lilliefors", "dagostino_pearson", "shapiro_francia"])
     def test_primary_test_override(self, primary):

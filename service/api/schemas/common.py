@@ -49,14 +49,6 @@ def values_field() -> ValuesField:
     )
 
 
-class SampleOptions(Schema):
-    missing = fields.String(
-        load_default="drop",
-        validate=validate.OneOf(["drop", "reject"]),
-        metadata={"description": "drop missing values and count them (default), or reject the request"},
-    )
-
-
 class ShapeThresholds(Schema):
     skewness_threshold = fields.Float(
         load_default=DEFAULT_SKEWNESS_THRESHOLD,
@@ -102,10 +94,12 @@ class ServiceInfo(Schema):
 
 
 class InputInfo(Schema):
-    form = fields.String(required=True, metadata={"enum": ["values"]})
+    form = fields.String(required=True, metadata={"enum": ["values", "summary", "partials", "histogram"]})
     n = fields.Integer(required=True, metadata={"description": "values analysed (missing ones excluded)"})
-    missing = fields.Integer(required=True, metadata={"description": "missing values dropped"})
+    missing = fields.Integer(required=True, metadata={"description": "missing values dropped (raw values only)"})
     label = fields.Raw(required=True, metadata={"type": ["string", "null"], "description": "column name from a text header"})
+    shards = fields.Raw(required=True, metadata={"type": ["integer", "null"], "description": "partials: shards merged"})
+    bins = fields.Raw(required=True, metadata={"type": ["integer", "null"], "description": "histogram: bins given"})
 
 
 class Notice(Schema):

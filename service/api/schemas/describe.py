@@ -5,19 +5,20 @@ from __future__ import annotations
 from marshmallow import Schema, fields, validate
 
 from ...stats.quantiles import DEFINITIONS
-from .common import Envelope, SampleOptions, ShapeThresholds, maybe, number, values_field
+from .common import Envelope, ShapeThresholds, maybe, number
+from .forms import SampleObject
 
 
-class DescribeOptions(SampleOptions, ShapeThresholds):
+class DescribeOptions(ShapeThresholds):
     quantile_definition = fields.String(
         load_default="hf7",
         validate=validate.OneOf(sorted(DEFINITIONS)),
-        metadata={"description": "Hyndman & Fan (1996) quantile definition; hf7 is numpy's default and spreadsheet QUARTILE.INC"},
+        metadata={"description": "raw values: Hyndman & Fan (1996) quantile definition; hf7 is numpy's default and spreadsheet QUARTILE.INC"},
     )
 
 
-class DescribeRequest(DescribeOptions):
-    values = values_field()
+class DescribeRequest(SampleObject, DescribeOptions):
+    """A sample in any form, with the describe options."""
 
 
 class Location(Schema):
@@ -73,6 +74,7 @@ class WithinSd(Schema):
 
 
 class DescribeMethods(Schema):
+    moments = fields.String(required=True, metadata={"description": "how the moments were obtained from this form"})
     quantiles = fields.String(required=True)
     mode = fields.String(required=True)
     mad = fields.String(required=True)

@@ -5,10 +5,11 @@ from __future__ import annotations
 from marshmallow import Schema, fields, validate
 
 from ...stats.normality.battery import TEST_NAMES
-from .common import Envelope, MethodRef, SampleOptions, ShapeThresholds, maybe, nullable, number, values_field
+from .common import Envelope, MethodRef, ShapeThresholds, maybe, nullable, number
+from .forms import SampleObject
 
 
-class NormalityOptions(SampleOptions, ShapeThresholds):
+class NormalityOptions(ShapeThresholds):
     alpha = fields.Float(
         load_default=None,
         validate=validate.Range(min=1e-6, max=0.5),
@@ -17,7 +18,7 @@ class NormalityOptions(SampleOptions, ShapeThresholds):
     primary_test = fields.String(
         load_default=None,
         validate=validate.OneOf(TEST_NAMES),
-        metadata={"description": "the test that decides the verdict (default: shapiro_wilk up to n=5000, anderson_darling above)"},
+        metadata={"description": "the test that decides the verdict (default: raw values shapiro_wilk up to n=5000, anderson_darling above; summaries and partials dagostino_pearson; histograms chi_square)"},
     )
     adequate_n = fields.Integer(
         load_default=None,
@@ -26,8 +27,8 @@ class NormalityOptions(SampleOptions, ShapeThresholds):
     )
 
 
-class NormalityRequest(NormalityOptions):
-    values = values_field()
+class NormalityRequest(SampleObject, NormalityOptions):
+    """A sample in any form, with the normality options."""
 
 
 class TestOutcome(Schema):
@@ -50,6 +51,7 @@ class Tests(Schema):
     lilliefors = fields.Nested(TestOutcome, required=True)
     cramer_von_mises = fields.Nested(TestOutcome, required=True)
     jarque_bera = fields.Nested(TestOutcome, required=True)
+    chi_square = fields.Nested(TestOutcome, required=True)
 
 
 class Practical(Schema):

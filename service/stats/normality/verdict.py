@@ -79,11 +79,17 @@ class Verdict:
     power: float | Unavailable
 
 
-def default_primary(n: int, available: dict[str, TestResult]) -> str:
-    if "shapiro_wilk" in available and n <= 5000:
-        return "shapiro_wilk"
-    if "anderson_darling" in available:
-        return "anderson_darling"
+def default_primary(n: int, tests: dict[str, TestResult], form: str = "values") -> str:
+    """Shapiro-Wilk up to n=5000 and Anderson-Darling above for raw values; the
+    chi-square test for a histogram; the omnibus moment test (or the one moment test
+    the input allows) for summaries and partials."""
+    if form == "values":
+        return "shapiro_wilk" if n <= 5000 else "anderson_darling"
+    if form == "histogram":
+        return "chi_square"
+    for name in ("dagostino_pearson", "skewness_test", "kurtosis_test"):
+        if tests[name].applicable:
+            return name
     return "dagostino_pearson"
 
 
@@ -138,12 +144,13 @@ def decide_normality(
     alpha: float,
     skewness_threshold: float,
     kurtosis_threshold: float,
+    form: str = "values",
     primary_test: str | None = None,
     adequate_n: int | None = None,
     basis: str | None = None,
 ) -> Verdict:
     """Draw the verdict from ``tests`` (name -> result) for a sample of size ``n``."""
-    primary = primary_test or default_primary(n, tests)
+    primary = primary_test or default_primary(n, tests, form)
     result = tests[primary]
     practical = practical_size(n, G1, G2, skewness_threshold, kurtosis_threshold)
     support = _support(tests, primary)

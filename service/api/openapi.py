@@ -35,12 +35,20 @@ class Operation:
     request: type[Schema]
     options: type[Schema]
     response: type[Schema]
-    example: str
+    examples: dict
     tag: str
     errors: tuple[int, ...] = (400, 413, 415, 422)
     get_form: bool = True
     extra: dict = field(default_factory=dict)
 
+
+# One example per form, all from the demo scenario (kiln cooling hours).
+SAMPLE_EXAMPLES = {
+    "values": ("raw values with two missing", "demo.json"),
+    "summary": ("the same sample as summary statistics", "summary.json"),
+    "partials": ("the same sample as three shard partials", "partials.json"),
+    "histogram": ("the same sample as a histogram with open-ended outer bins", "histogram.json"),
+}
 
 OPERATIONS = (
     Operation(
@@ -55,7 +63,7 @@ OPERATIONS = (
         request=DescribeRequest,
         options=DescribeOptions,
         response=DescribeResponse,
-        example="demo.json",
+        examples=SAMPLE_EXAMPLES,
         tag="analysis",
     ),
     Operation(
@@ -70,7 +78,7 @@ OPERATIONS = (
         request=NormalityRequest,
         options=NormalityOptions,
         response=NormalityResponse,
-        example="demo.json",
+        examples=SAMPLE_EXAMPLES,
         tag="analysis",
     ),
 )
@@ -121,7 +129,10 @@ def _operations(op: Operation) -> dict:
             "required": True,
             "description": "JSON with the sample in `values`, or the sample as text (options then in the query)",
             "content": {
-                "application/json": {"schema": op.request, "examples": {"demo": {"value": example(op.example)}}},
+                "application/json": {
+                    "schema": op.request,
+                    "examples": {name: {"summary": text, "value": example(file)} for name, (text, file) in op.examples.items()},
+                },
                 "text/csv": {"schema": {"type": "string", "description": TEXT_BODY_DOC}},
                 "text/plain": {"schema": {"type": "string", "description": TEXT_BODY_DOC}},
             },

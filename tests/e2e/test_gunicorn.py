@@ -80,6 +80,21 @@ def test_csv_body_and_problem(server):
     assert json.loads(data)["errors"][0]["pointer"] == "/values/1"
 
 
+def test_column_client_example(server, tmp_path):
+    """The README's macro-style client posts a column with blanks and error cells and
+    reads the flat CSV answer back."""
+    base, _ = server
+    cells = tmp_path / "cells.csv"
+    cells.write_text("cooling_h\n11.2\n\n12.9\n#N/A\n10.4\n13.8\n9.9\n12.1\n10.8\n11.7\n")
+    client = ROOT / "openapi" / "examples" / "column_client.py"
+    out = subprocess.run(
+        [sys.executable, str(client), str(cells), "--url", base, "--keys", "input.n", "input.missing", "input.label", "verdict.label"],
+        capture_output=True, text=True, timeout=60, check=True,
+    ).stdout
+    rows = dict(line.split(",", 1) for line in out.splitlines())
+    assert rows == {"input.n": "8", "input.missing": "2", "input.label": "cooling_h", "verdict.label": "inconclusive"}
+
+
 def test_sigterm_stops_cleanly(server):
     _, proc = server
     proc.send_signal(signal.SIGTERM)

@@ -1,4 +1,4 @@
-"""Blueprint for the one-sample analyses: /v1/describe and /v1/normality.
+"""Blueprint for the one-sample analyses: /v1/describe, /v1/normality, /v1/modality.
 
 Each view reads the request (``intake``), calls one function of ``service.stats`` and
 sends the result (``output``); no statistics here.
@@ -9,10 +9,12 @@ from __future__ import annotations
 from flask import Blueprint, current_app
 
 from ..stats import describe as describing
+from ..stats import modality as peaks
 from ..stats import normality as testing
 from .intake import read_sample_request
 from .output import document, respond
 from .schemas.describe import DescribeOptions, DescribeRequest
+from .schemas.modality import ModalityOptions, ModalityRequest
 from .schemas.normality import NormalityOptions, NormalityRequest
 
 bp = Blueprint("analysis", __name__, url_prefix="/v1")
@@ -43,3 +45,19 @@ def normality():
         kurtosis_threshold=o["kurtosis_threshold"],
     )
     return respond(document(req.input, testing.normality(req.profile, options)))
+
+
+@bp.route("/modality", methods=["POST", "GET"])
+def modality():
+    req = read_sample_request(ModalityRequest, ModalityOptions, minimum_n=3)
+    o = req.options
+    cfg = current_app.config
+    options = peaks.ModalityOptions(
+        alpha=o["alpha"] if o["alpha"] is not None else cfg["DEFAULT_ALPHA"],
+        max_components=o["max_components"],
+        seed=o["seed"],
+        starts=cfg["FIT_STARTS"],
+        max_iterations=cfg["FIT_MAX_ITERATIONS"],
+        time_limit=cfg["FIT_TIME_LIMIT"],
+    )
+    return respond(document(req.input, peaks.modality(req.profile, options)))

@@ -22,6 +22,7 @@ from .. import __version__
 from .errors import PROBLEM_MEDIA_TYPE
 from .schemas.common import MISSING_TOKEN_DOC, OutputOptions, ProblemDocument, TextOptions, Unavailable
 from .schemas.describe import DescribeOptions, DescribeRequest, DescribeResponse
+from .schemas.modality import MixtureOut, ModalityOptions, ModalityRequest, ModalityResponse, TwoComponentsOut
 from .schemas.normality import NormalityOptions, NormalityRequest, NormalityResponse
 
 OPENAPI_VERSION = "3.1.0"
@@ -79,6 +80,21 @@ OPERATIONS = (
         options=NormalityOptions,
         response=NormalityResponse,
         examples=SAMPLE_EXAMPLES,
+        tag="analysis",
+    ),
+    Operation(
+        path="/v1/modality",
+        summary="How many peaks: modes of a fitted Gaussian mixture, the dip test, the bimodality coefficient",
+        description=(
+            "Gaussian mixtures with k = 1..max_components fitted by EM from seeded starts and selected by "
+            "BIC; modes and antimodes found on the fitted density (components are not modes); Hartigan's "
+            "dip test; the bimodality coefficient (a heuristic); one verdict: unimodal, bimodal or multimodal."
+        ),
+        request=ModalityRequest,
+        options=ModalityOptions,
+        response=ModalityResponse,
+        examples={"values": ("raw values with two missing", "demo.json"),
+                  "histogram": ("the same sample as a histogram", "histogram.json")},
         tag="analysis",
     ),
 )
@@ -177,6 +193,8 @@ def build_spec() -> dict:
         },
     )
     spec.components.schema("Unavailable", schema=Unavailable)
+    spec.components.schema("TwoComponentsOut", schema=TwoComponentsOut)
+    spec.components.schema("MixtureOut", schema=MixtureOut)
     for op in OPERATIONS:
         spec.path(path=op.path, operations=_operations(op))
     spec.path(

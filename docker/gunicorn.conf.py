@@ -19,3 +19,8 @@ errorlog = "-"
 loglevel = os.environ.get("SHAPEGAUGE_LOG_LEVEL", "info").lower()
 # numpy/scipy: one BLAS thread per worker, so workers do not fight over cores.
 raw_env = ["OPENBLAS_NUM_THREADS=1", "OMP_NUM_THREADS=1", "MKL_NUM_THREADS=1"]
+# GET forms carry the sample in the query string: allow gunicorn's largest request line
+# (8190 bytes, a few hundred values); longer columns go in a POST body.
+limit_request_line = 8190
+# No control socket: it would live in the user's home and be shared by every instance.
+control_socket_disable = True

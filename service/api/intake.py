@@ -60,20 +60,59 @@ def validation_problem(err: ValidationError, prefix: str = "") -> Problem:
     return Problem("invalid-request", f"the request is not valid: {summary}", errors=errors)
 
 
+def read_body() -> bytes:
+    """The request body, refused with a 413 when larger than the limit.
+
+    Flask's MAX_CONTENT_LENGTH is checked against Content-Length; a chunked body has
+    none, so the body is read here up to one byte past the limit and refused whole
+    rather than silently cut.
+    """
+    limit = current_app.config["MAX_BODY_BYTES"]
+    raw = request.stream.read(limit + 1)
+    if len(raw) > limit:
+        raise Problem("too-large", f"the request body is larger than this service's limit of {limit} bytes")
+    return raw
+
+
+def read_text_body() -> str:
+    charset = request.mimetype_params.get("charset", "utf-8")
+    raw = read_body()
+    try:
+        return raw.decode(charset)
+    except LookupError:
+        raise Problem("unsupported-media-type", f"charset {charset!r} is not known; send utf-8 (or name the charset)") from None
+    except UnicodeDecodeError as exc:
+        raise Problem("malformed-body", f"the body is not valid {charset} at byte {exc.start}; "
+                      "name the charset the file was saved in (e.g. text/csv; charset=cp1252)") from None
+
+
+def _values_index(raw: bytes, position: int) -> str:
+    """JSON pointer of the array element at byte ``position`` of a flat values array."""
+    key = raw.rfind(b'"values"', 0, position)
+    start = raw.find(b"[", key) if key >= 0 else -1
+    if start < 0 or start > position:
+        return ""
+    return f"/values/{raw.count(b',', start, position)}"
+
+
 def load_json_body() -> dict:
-    raw = request.get_data(cache=False)
+    raw = read_body()
     if not raw.strip():
         raise Problem("malformed-body", "the request body is empty; send a JSON object")
     try:
         body = orjson.loads(raw)
     except orjson.JSONDecodeError as exc:
+        where = {"detail": str(exc), "position": exc.pos}
         if "infinity" in str(exc):
+            pointer = _values_index(raw, exc.pos)
+            at = f" at {pointer}" if pointer else f" at byte {exc.pos}"
             raise Problem(
                 "non-finite-value",
-                f"a number in the body is too large for a double and would be infinite ({exc})",
-                errors=[{"pointer": "", "detail": str(exc)}],
+                f"a number{at} is too large for a double and would be infinite",
+                errors=[{"pointer": pointer, **where}],
             ) from None
-        raise Problem("malformed-body", f"the body is not valid JSON: {exc}") from None
+        raise Problem("malformed-body", f"the body is not valid JSON: {exc} (NaN and Infinity are not JSON; "
+                      "send null for a missing value)", errors=[where]) from None
     if not isinstance(body, dict):
         raise Problem("invalid-request", "the body must be a JSON object holding the sample and options",
                       errors=[{"pointer": "", "detail": f"got a JSON {type(body).__name__}"}])
@@ -91,15 +130,20 @@ def limits() -> Limits:
     return Limits(max_values=current_app.config["MAX_VALUES"], max_parts=current_app.config["MAX_PARTS"])
 
 
+def _query_options() -> dict:
+    return {k: v for k, v in request.args.items() if k not in OUTPUT_PARAMS}
+
+
 def _text_sample(options_cls: type[Schema], minimum_n: int) -> SampleRequest:
-    query = {k: v for k, v in request.args.items() if k not in OUTPUT_PARAMS}
-    if request.method == "GET":
+    query = _query_options()
+    if request.method in ("GET", "HEAD"):
         if "values" not in query:
             raise Problem("invalid-request", "GET needs the sample in the query: ?values=1.2,3.4,5",
                           errors=[{"pointer": "/values", "detail": "missing"}])
-        text = query.pop("values")
+        query.pop("values")
+        text = "\n".join(request.args.getlist("values"))
     else:
-        text = request.get_data(as_text=True, cache=False)
+        text = read_text_body()
     text_fields = TextOptions().fields
     text_opts = load_options(TextOptions(), {k: query.pop(k) for k in list(query) if k in text_fields})
     missing = query.pop("missing", "drop")
@@ -107,7 +151,7 @@ def _text_sample(options_cls: type[Schema], minimum_n: int) -> SampleRequest:
         raise Problem("invalid-request", "missing must be drop or reject", errors=[{"pointer": "/missing", "detail": f"got {missing!r}"}])
     options = load_options(options_cls(), query)
     parsed = parse_text_values(text, decimal=text_opts["decimal"], column=text_opts["column"],
-                               missing=missing, max_values=limits().max_values)
+                               layout=text_opts["layout"], missing=missing, max_values=limits().max_values)
     sample = Sample(parsed.values, parsed.missing)
     require_spread(sample, minimum_n=minimum_n)
     profile = profile_of_sample(sample, options.get("quantile_definition", "hf7"))
@@ -119,9 +163,16 @@ def read_sample_request(schema_cls: type[Schema], options_cls: type[Schema], *, 
     ``SampleObject`` with options), ``options_cls`` the options alone (the query string
     of a text body)."""
     mimetype = request.mimetype
-    if request.method == "GET" or mimetype in TEXT_TYPES:
+    if request.method in ("GET", "HEAD") or mimetype in TEXT_TYPES:
         return _text_sample(options_cls, minimum_n)
     if mimetype in JSON_TYPES or mimetype.endswith("+json"):
+        stray = sorted(_query_options())
+        if stray:
+            raise Problem(
+                "invalid-request",
+                f"with a JSON body the options go in the body, not the query string: move {', '.join(stray)} into the JSON object",
+                errors=[{"pointer": f"/{name}", "detail": "query parameter with a JSON body"} for name in stray],
+            )
         options = load_options(schema_cls(), load_json_body())
         built = build_sample(options, limits(), quantile_definition=options.get("quantile_definition", "hf7"), minimum_n=minimum_n)
         return SampleRequest(options, built.profile, built.input)

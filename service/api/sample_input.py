@@ -12,6 +12,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from ..stats.errors import TooFewValues
 from ..stats.forms import Sample, require_spread
 from ..stats.histogram import check_histogram
 from ..stats.partials import Partial
@@ -77,11 +78,17 @@ def _histogram_arrays(raw: dict, limits: Limits, prefix: str) -> tuple[np.ndarra
     return e, c
 
 
+def _require_n(profile: Profile, minimum_n: int) -> None:
+    if profile.n < minimum_n:
+        raise TooFewValues(f"at least {minimum_n} values are needed; the {profile.form} describes n={profile.n}")
+
+
 def build_sample(data: dict, limits: Limits, *, quantile_definition: str = "hf7", prefix: str = "", minimum_n: int = 2) -> SampleInput:
     """Turn one loaded sample object into a ``Profile`` and its ``input`` block."""
     form = form_of(data)
     if form == "values":
-        parsed = parse_json_values(data["values"], pointer=f"{prefix}/values", max_values=limits.max_values, missing=data["missing"])
+        parsed = parse_json_values(data["values"], pointer=f"{prefix}/values", max_values=limits.max_values,
+                                   missing=data.get("missing") or "drop")
         sample = Sample(parsed.values, parsed.missing)
         require_spread(sample, minimum_n=minimum_n)
         return SampleInput(profile_of_sample(sample, quantile_definition), InputInfo("values", sample.n, parsed.missing))
@@ -92,9 +99,10 @@ def build_sample(data: dict, limits: Limits, *, quantile_definition: str = "hf7"
             n=s["n"], mean=s["mean"], sd=s["sd"], skewness=s["skewness"], kurtosis=s["kurtosis"],
             median=s["median"], q1=s["q1"], q3=s["q3"], minimum=s["min"], maximum=s["max"],
             skewness_convention=conventions["skewness"], kurtosis_convention=conventions["kurtosis"],
-            sd_convention=data["sd_convention"],
+            sd_convention=data.get("sd_convention") or "sample",
         )
         profile = profile_of_summary(summary)
+        _require_n(profile, minimum_n)
         return SampleInput(profile, InputInfo("summary", profile.n, 0))
     if form == "partials":
         parts = data["partials"]
@@ -105,8 +113,10 @@ def build_sample(data: dict, limits: Limits, *, quantile_definition: str = "hf7"
         ])
         if profile.moments.m2 <= 0:
             raise Problem("constant-data", "the merged shards have zero variance: a constant has no shape to describe")
+        _require_n(profile, minimum_n)
         return SampleInput(profile, InputInfo("partials", profile.n, 0, shards=len(parts)))
     edges, counts = _histogram_arrays(data["histogram"], limits, prefix)
     histogram = check_histogram(edges, counts)
-    profile = profile_of_histogram(histogram, sheppard=data["sheppard"])
+    profile = profile_of_histogram(histogram, sheppard=bool(data.get("sheppard")))
+    _require_n(profile, minimum_n)
     return SampleInput(profile, InputInfo("histogram", profile.n, 0, bins=int(counts.size)))

@@ -3,10 +3,16 @@
 Numbers may be separated by commas, semicolons, tabs, spaces or newlines. An empty
 cell (two separators in a row, or an empty line) and the spreadsheet missing-value
 markers in :data:`MISSING_TOKENS` are missing values: dropped and counted, or refused
-with ``missing=reject``. An optional header line names the column. A table whose
-header names several columns needs ``column`` (a name or a 1-based number). With
-``decimal=","`` (locales that write 1,5) the comma is the decimal mark and only
-semicolons, tabs, spaces and newlines separate.
+with ``missing=reject``; trailing blank lines are not cells. An optional header line
+names the column. With ``decimal=","`` (locales that write 1,5) the comma is the
+decimal mark and only semicolons, tabs, spaces and newlines separate.
+
+A sample is one-dimensional, so a body is one column (a value per line), one row, or a
+table from which ``column`` (a header name or a 1-based number) picks one column; a
+table is never flattened silently. Several cells on every line make a table; lines of
+unequal length are refused unless separated by spaces only (a dump of numbers) or
+``layout=flat`` asks for every cell in reading order. A body that mixes ';' and ','
+is refused with the hint that commas may be decimal marks.
 
 Splitting is done by ``str`` methods on the whole body and conversion by numpy on
 whole arrays; only the error path, which stops at the first fault, walks lines.
@@ -42,11 +48,16 @@ class ParsedText:
     label: str | None
 
 
+_TRAILING_BLANK_LINES = re.compile(r"(?:\n[ \t\u00a0]*)+$")
+
+
 def _normalise(text: str) -> str:
+    """Drop a byte-order mark, unify line ends and drop trailing blank lines (a pasted
+    column often ends with some; they are not cells)."""
     if text.startswith("\ufeff"):
         text = text[1:]
     text = text.replace("\r\n", "\n").replace("\r", "\n")
-    return text[:-1] if text.endswith("\n") else text
+    return _TRAILING_BLANK_LINES.sub("", text)
 
 
 def _cells(text: str, separators: str) -> list[str]:
@@ -70,6 +81,11 @@ def _looks_like_header(cells: list[str]) -> bool:
     return bool(names) and all(name not in MISSING_TOKENS and name[:1] not in _NUMBER_START for name in names)
 
 
+def _show(token) -> str:
+    text = str(token)
+    return repr(text if len(text) <= 40 else text[:37] + "...")
+
+
 def _fault(code: str, index: int, detail: str, where: dict) -> Problem:
     return Problem(code, detail, errors=[{"pointer": f"/values/{index}", "detail": detail, **where}])
 
@@ -83,9 +99,9 @@ def _convert(cells: list[str], *, decimal: str, missing: str, where) -> tuple[np
     if n_missing and missing == "reject":
         i = int(np.argmax(absent))
         raise _fault("missing-values-rejected", i,
-                     f"value {i} is missing ({str(tokens[i])!r}) and the request asked for missing=reject", where(i))
+                     f"value {i} is missing ({_show(tokens[i])}) and the request asked for missing=reject", where(i))
     present = np.flatnonzero(~absent)
-    tokens = tokens[present]
+    tokens = shown = tokens[present]
     if decimal == ",":
         tokens = np.strings.replace(tokens, ",", ".")
     underscore = np.strings.find(tokens, "_") >= 0  # numpy reads 1_000 as 1000; no spreadsheet writes it
@@ -106,13 +122,30 @@ def _convert(cells: list[str], *, decimal: str, missing: str, where) -> tuple[np
                 hi = mid
         i = int(present[lo])
         raise _fault("invalid-value", i,
-                     f"value {i} is {str(tokens[lo])!r:.40}, which is neither a number nor a missing-value marker", where(i)) from None
+                     f"value {i} is {_show(shown[lo])}, which is neither a number nor a missing-value marker", where(i)) from None
     bad = ~np.isfinite(values)
     if bad.any():
         j = int(np.argmax(bad))
         i = int(present[j])
-        raise _fault("non-finite-value", i, f"value {i} is {str(tokens[j])!r}, which is not finite", where(i))
+        raise _fault("non-finite-value", i, f"value {i} is {_show(shown[j])}, which is not finite", where(i))
     return values, n_missing
+
+
+def _header(first_line: str, explicit: str, next_line: str) -> list[str] | None:
+    """The header's names, or None when the first line is data. A header splits on an
+    explicit separator if it has one; on spaces only when the data lines split into the
+    same number of cells (so a name like "weight (kg)" stays whole)."""
+    sep = next((c for c in explicit if c in first_line), None)
+    if sep is not None:
+        cells = first_line.split(sep)
+    else:
+        words = first_line.split()
+        cells = words if len(words) > 1 and len(next_line.split()) == len(words) else [first_line]
+    return [_unquote(c) for c in cells] if _looks_like_header(cells) else None
+
+
+def _too_many(count: int, max_values: int) -> Problem:
+    return Problem("too-large", f"the body holds {count} values; this service accepts at most {max_values} per sample")
 
 
 def parse_text_values(
@@ -120,34 +153,100 @@ def parse_text_values(
     *,
     decimal: str = ".",
     column: str | None = None,
+    layout: str = "auto",
     missing: str = "drop",
     max_values: int,
 ) -> ParsedText:
     """Parse one sample from a text body; see the module docstring for the rules."""
     text = _normalise(text)
-    separators = ";\t" if decimal == "," else ",;\t"
+    explicit = ";\t" if decimal == "," else ",;\t"
+    if not text:
+        return ParsedText(np.empty(0), 0, 0, None)
+    if decimal == "." and "," in text and ";" in text and layout == "auto":
+        raise Problem(
+            "invalid-value",
+            "the body mixes ';' and ',' between values; if commas are decimal marks (1,5) pass decimal=, "
+            "(then ';', tabs, spaces and newlines separate), otherwise separate with one character",
+            errors=[{"pointer": "/decimal", "detail": "ambiguous separators"}],
+        )
     first_line, _, rest = text.partition("\n")
-    # A header splits only on an explicit separator, so a name may hold spaces.
-    header_sep = next((sep for sep in separators if sep in first_line), None)
-    header = first_line.split(header_sep) if header_sep else [first_line]
-    label = None
-    header_lines = 0
-    if text and _looks_like_header(header):
-        names = [_unquote(c) for c in header]
-        if len(names) > 1:
-            return _table_column(rest, names, column, header_sep, decimal, missing, max_values)
-        label, text, header_lines = names[0], rest, 1
-    elif column is not None:
-        raise Problem("invalid-request", "column= needs a header line naming the columns",
-                      errors=[{"pointer": "/column", "detail": "the body has no header line"}])
-    cells = _cells(text, separators) if text else []
+    names = _header(first_line, explicit, rest.partition("\n")[0])
+    body, offset = (rest, 1) if names else (text, 0)
+    label = names[0] if names and len(names) == 1 else None
+    if layout == "flat":
+        if column is not None:
+            raise Problem("invalid-request", "column= picks a table column; it does not apply with layout=flat",
+                          errors=[{"pointer": "/column", "detail": "not with layout=flat"}])
+        return _flat(body, explicit, decimal, missing, max_values, offset, " ".join(names) if names else None)
+    sep = next((c for c in explicit if c in body), " ")
+    squeezed = _SPACES.sub(" ", body) if sep == " " else body
+    lines = np.array(squeezed.split("\n") if body else [], dtype=_STRINGS)
+    if lines.size > max_values:
+        raise _too_many(int(lines.size), max_values)
+    lines = np.strings.strip(lines)
+    blank = np.strings.str_len(lines) == 0
+    counts = np.where(blank, 0, np.strings.count(lines, sep) + 1)
+    widths = np.unique(counts[~blank])
+    table = (names is not None and len(names) > 1) or (int((~blank).sum()) > 1 and widths.size > 0 and widths.max() > 1)
+    if not table:
+        if column is not None:
+            raise Problem("invalid-request", "column= picks a column of a table; this body holds a single column or row",
+                          errors=[{"pointer": "/column", "detail": "not a table"}])
+        return _flat(body, explicit, decimal, missing, max_values, offset, label)
+    if names is not None and len(names) == 1:
+        width = int(widths.max())
+        hint = " If commas are decimal marks (1,5), pass decimal=,." if sep == "," else ""
+        raise Problem("invalid-value", f"the header names one column but the lines hold up to {width} cells.{hint}",
+                      errors=[{"detail": "header and lines disagree", "line": int(np.argmax(counts > 1)) + 1 + offset}])
+    width = len(names) if names else int(widths.max())
+    ragged = (counts != width) & ~blank
+    if ragged.any() and sep == " " and names is None:
+        # Lines of unequal length separated by spaces only: a dump of numbers, not a table.
+        return _flat(body, explicit, decimal, missing, max_values, offset, label)
+    if ragged.any():
+        row = int(np.argmax(ragged))
+        detail = (f"line {row + 1 + offset} has {int(counts[row])} cells where the table has {width}; send a rectangular "
+                  "table, one value per line, or pass layout=flat to read every cell in order")
+        raise Problem("invalid-value", detail, errors=[{"detail": detail, "line": row + 1 + offset}])
+    k = _pick_column(column, names, width, sep, decimal)
+    lines = np.where(blank, sep * (width - 1), lines)
+    cells = np.array(sep.join(lines.tolist()).split(sep), dtype=_STRINGS).reshape(-1, width)[:, k].tolist()
+    values, n_missing = _convert(cells, decimal=decimal, missing=missing,
+                                 where=lambda i: {"line": i + 1 + offset, "column": k + 1})
+    return ParsedText(values, n_missing, len(cells), names[k] if names else None)
+
+
+def _pick_column(column: str | None, names: list[str] | None, width: int, sep: str, decimal: str) -> int:
+    if column is None:
+        described = f" ({', '.join(names)})" if names else ""
+        hint = " If commas are decimal marks (1,5), pass decimal=, instead." if sep == "," and width == 2 and decimal == "." else ""
+        raise Problem(
+            "invalid-request",
+            f"the body is a table with {width} columns{described}; a sample is one column: choose it with "
+            f"column=<{'name or ' if names else ''}1-based number>.{hint}",
+            errors=[{"pointer": "/column", "detail": "required for a table with several columns"}],
+        )
+    if names and column in names:
+        if names.count(column) > 1:
+            raise Problem("invalid-request", f"the header names {column!r} {names.count(column)} times; pick the column by number",
+                          errors=[{"pointer": "/column", "detail": "ambiguous name"}])
+        return names.index(column)
+    if column.isdigit() and 1 <= int(column) <= width:
+        return int(column) - 1
+    named = f"a header name ({', '.join(names)}) nor " if names else ""
+    raise Problem("invalid-request", f"column {column!r} is neither {named}a number from 1 to {width}",
+                  errors=[{"pointer": "/column", "detail": "no such column"}])
+
+
+def _flat(body: str, explicit: str, decimal: str, missing: str, max_values: int, offset: int, label) -> ParsedText:
+    cells = _cells(body, explicit) if body else []
     if len(cells) > max_values:
-        raise Problem("too-large", f"the body holds {len(cells)} values; this service accepts at most {max_values} per sample")
+        raise _too_many(len(cells), max_values)
 
     def where(index: int) -> dict:
         seen = 0
-        for number, line in enumerate(text.split("\n"), start=1 + header_lines):
-            count = len(_cells(line, separators))
+        for number, line in enumerate(body.split("\n"), start=1 + offset):
+            count = len(_cells(line, explicit))
             if index < seen + count:
                 return {"line": number, "column": index - seen + 1}
             seen += count
@@ -157,40 +256,3 @@ def parse_text_values(
         return ParsedText(np.empty(0), 0, 0, label)
     values, n_missing = _convert(cells, decimal=decimal, missing=missing, where=where)
     return ParsedText(values, n_missing, len(cells), label)
-
-
-def _table_column(text, names, column, sep, decimal, missing, max_values) -> ParsedText:
-    width = len(names)
-    if column is None:
-        raise Problem(
-            "invalid-request",
-            f"the body is a table with {width} columns ({', '.join(names)}); a sample is one column: "
-            "choose it with column=<name or 1-based number>",
-            errors=[{"pointer": "/column", "detail": "required for a table with several columns"}],
-        )
-    if column in names:
-        k = names.index(column)
-    elif column.isdigit() and 1 <= int(column) <= width:
-        k = int(column) - 1
-    else:
-        raise Problem("invalid-request",
-                      f"column {column!r} is neither a header name ({', '.join(names)}) nor a number from 1 to {width}",
-                      errors=[{"pointer": "/column", "detail": "no such column"}])
-    lines = np.strings.strip(np.array(text.split("\n") if text else [], dtype=_STRINGS))
-    if lines.size > max_values:
-        raise Problem("too-large", f"the table holds {lines.size} rows; this service accepts at most {max_values} values per sample")
-    counts = np.strings.count(lines, sep) + 1
-    blank = np.strings.str_len(lines) == 0
-    ragged = (counts != width) & ~blank
-    if ragged.any():
-        row = int(np.argmax(ragged))
-        detail = f"line {row + 2} has {int(counts[row])} cells; the header names {width}"
-        raise Problem("invalid-value", detail, errors=[{"detail": detail, "line": row + 2}])
-    lines = np.where(blank, sep * (width - 1), lines)
-    cells = sep.join(lines.tolist()).split(sep) if lines.size else []
-    chosen = np.array(cells, dtype=_STRINGS).reshape(-1, width)[:, k].tolist()
-    if not chosen:
-        return ParsedText(np.empty(0), 0, 0, names[k])
-    values, n_missing = _convert(chosen, decimal=decimal, missing=missing,
-                                 where=lambda i: {"line": i + 2, "column": k + 1})
-    return ParsedText(values, n_missing, len(chosen), names[k])

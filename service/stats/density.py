@@ -27,6 +27,7 @@ import math
 from dataclasses import dataclass
 
 import numpy as np
+from scipy import signal
 
 _MIN_GRID = 512
 _MAX_GRID = 1 << 16
@@ -102,11 +103,21 @@ def highest_peak(grid: DensityGrid) -> float:
     return _refine(grid.x, grid.density, int(np.argmax(grid.density)))
 
 
+def _resolvable(x: np.ndarray, bandwidth: float) -> float:
+    """A bandwidth below the data's own floating-point resolution cannot resolve anything."""
+    return max(bandwidth, 4.0 * float(np.spacing(max(abs(x[0]), abs(x[-1])))))
+
+
+def smoothed_density(sorted_values: np.ndarray, bandwidth: float) -> np.ndarray:
+    """The KDE on a grid, unnormalised (kernel peak 1), for comparing heights only; safe
+    for any bandwidth, as no 1/bandwidth factor is applied."""
+    return _smoothed_counts(sorted_values, _resolvable(sorted_values, bandwidth))[1]
+
+
 def kde_mode(sorted_values: np.ndarray, bandwidth: float) -> float:
     """The highest peak of the Gaussian KDE, searched cluster by cluster (see module)."""
     x = sorted_values
-    # A bandwidth below the data's own floating-point resolution cannot resolve anything.
-    bandwidth = max(bandwidth, 4.0 * float(np.spacing(max(abs(x[0]), abs(x[-1])))))
+    bandwidth = _resolvable(x, bandwidth)
     breaks = np.flatnonzero(np.diff(x) > 2.0 * _REACH * bandwidth) + 1
     starts = np.concatenate([[0], breaks])
     ends = np.concatenate([breaks, [x.size]])
@@ -121,3 +132,11 @@ def kde_mode(sorted_values: np.ndarray, bandwidth: float) -> float:
             best_height = float(smoothed[i])
             best_at = min(max(_refine(grid, smoothed, i), float(x[starts[k]])), float(x[ends[k] - 1]))
     return best_at
+
+
+def count_peaks(density: np.ndarray, prominence: float) -> int:
+    """Local maxima of a gridded density with a topographic prominence of at least
+    ``prominence`` times the highest value (``scipy.signal.find_peaks``)."""
+    padded = np.concatenate([[0.0], density, [0.0]])
+    peaks, _ = signal.find_peaks(padded, prominence=prominence * float(density.max()))
+    return max(int(peaks.size), 1)

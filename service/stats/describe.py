@@ -25,18 +25,24 @@ from dataclasses import dataclass
 import numpy as np
 from scipy import special
 
-from .density import kde_mode, silverman_bandwidth
+from .density import count_peaks, kde_mode, silverman_bandwidth, smoothed_density
 from .thresholds import DEFAULT_KURTOSIS_THRESHOLD, DEFAULT_SKEWNESS_THRESHOLD
 from .forms import Sample
 from .histogram import binned_mode, binned_share, extreme_bin
 from .moments import Moments, se_kurtosis, se_skewness
-from .profile import Profile, profile_of_sample
+from .profile import Profile, profile_of_sample, rounding_unit
 from .pvalues import two_sided_normal
 from .quantiles import DESCRIPTIONS
 from .results import Notice, Unavailable
 
 # 1 / Phi^{-1}(3/4): makes the MAD a consistent estimate of sigma for normal data [4].
 MAD_NORMAL_FACTOR = 1.0 / special.ndtri(0.75)
+
+# Below these n the plain z = G/se is far from normal (G2's distribution is very skewed
+# in small samples): common practice, and the reason the normality tests transform it.
+Z_MIN_N = {"skewness": 8, "kurtosis": 20}
+MODE_MIN_N = 5  # a density peak of fewer values says nothing
+SMALL_N = 20
 
 MODE_METHOD = (
     "highest peak of a Gaussian kernel density estimate with Silverman's rule-of-thumb "
@@ -186,7 +192,8 @@ def skewness_block(profile: Profile, mode: float | Unavailable, options: Describ
         b1 = m.skewness("b1")
         se = se_skewness(n)
         z = G1 / se
-        p = two_sided_normal(z)
+        p = two_sided_normal(z) if n >= Z_MIN_N["skewness"] else Unavailable(
+            f"the normal approximation of z is poor below n={Z_MIN_N['skewness']}; see skewness_test in /v1/normality")
         label = skewness_label(G1, options.skewness_threshold)
     med, q1, q3 = _order(profile, "median"), _order(profile, "q1"), _order(profile, "q3")
     if isinstance(med, Unavailable):
@@ -221,7 +228,8 @@ def kurtosis_block(m: Moments, options: DescribeOptions) -> Kurtosis:
         b2=m.excess_kurtosis("b2"),
         se=se,
         z=z,
-        p_value=two_sided_normal(z),
+        p_value=two_sided_normal(z) if n >= Z_MIN_N["kurtosis"] else Unavailable(
+            f"the normal approximation of z is poor below n={Z_MIN_N['kurtosis']}; see kurtosis_test in /v1/normality"),
         label=kurtosis_label(G2, options.kurtosis_threshold),
     )
 
@@ -244,6 +252,8 @@ def within_sd_shares(profile: Profile) -> WithinSd:
 
 
 def _mode(profile: Profile) -> float | Unavailable:
+    if profile.n < MODE_MIN_N:
+        return Unavailable(f"a density peak of n={profile.n} values says nothing; needs n >= {MODE_MIN_N}")
     if profile.sample is not None:
         m, order = profile.moments, profile.order
         bandwidth = silverman_bandwidth(m.sd, order.q3 - order.q1, profile.n)
@@ -282,7 +292,10 @@ def _methods(profile: Profile, options: DescribeOptions) -> Methods:
         ),
         standard_errors=(
             "se of G1 and G2 are their exact standard deviations for normal samples "
-            "(Joanes & Gill 1998); they do not hold for non-normal data"
+            "(Joanes & Gill 1998); they do not hold for non-normal data. z = G/se with a normal p-value is a "
+            "quick screen, given from n=8 (skewness) and n=20 (kurtosis); the skewness and kurtosis tests of "
+            "/v1/normality transform the statistics (D'Agostino 1970; Anscombe & Glynn 1983) and are the ones "
+            "to use as tests"
         ),
         labels=(
             f"skewness label from |G1| >= {options.skewness_threshold} (Bulmer 1979), kurtosis "
@@ -323,8 +336,41 @@ def describe(profile: Profile, options: DescribeOptions = DescribeOptions()) -> 
         kurtosis=kurtosis_block(m, options),
         within_sd=within_sd_shares(profile),
         methods=_methods(profile, options),
-        warnings=profile.notices,
+        warnings=profile.notices + describe_notices(profile),
     )
+
+
+def describe_notices(profile: Profile) -> tuple[Notice, ...]:
+    notices = []
+    if profile.n < SMALL_N:
+        notices.append(Notice(
+            "small-sample",
+            f"n={profile.n}: skewness and kurtosis from so few values are very uncertain (se of G1 "
+            f"{se_skewness(profile.n):.2f}" + (f", of G2 {se_kurtosis(profile.n):.2f}" if profile.n >= 4 else "")
+            + "); read the labels as descriptions of these values, not of the population"
+            if profile.n >= 3 else f"n={profile.n}: too few values for any shape statistic",
+        ))
+    if profile.sample is not None and profile.n >= MODE_MIN_N:
+        peaks = peak_count(profile)
+        if peaks > 1:
+            notices.append(Notice(
+                "several-peaks",
+                f"the kernel density has {peaks} clear peaks: the mode is the highest, and the mean, sd and "
+                "shape statistics summarise a mixture of groups; see /v1/modality",
+            ))
+    return tuple(notices)
+
+
+def peak_count(profile: Profile) -> int:
+    """Peaks of the KDE with a prominence of at least 10% of the highest density (a
+    coarse screen; /v1/modality does the real work). On rounded data the bandwidth is
+    at least the rounding step, so the grid of values is not read as peaks."""
+    m, order = profile.moments, profile.order
+    bandwidth = silverman_bandwidth(m.sd, order.q3 - order.q1, profile.n)
+    unit = rounding_unit(profile.sample)
+    if unit is not None:
+        bandwidth = max(bandwidth, unit)
+    return count_peaks(smoothed_density(profile.sample.sorted, bandwidth), 0.1)
 
 
 def describe_sample(sample: Sample, options: DescribeOptions = DescribeOptions()) -> Description:

@@ -88,7 +88,7 @@ def require_spread(sample: Sample, *, minimum_n: int = 2) -> None:
     """
     if sample.n < minimum_n:
         raise TooFewValues(
-            f"at least {minimum_n} non-missing values are needed; only n={sample.n} were given"
+            f"at least {minimum_n} non-missing values are needed; got n={sample.n}"
         )
     lo, hi = float(sample.sorted[0]), float(sample.sorted[-1])
     if lo == hi:

@@ -29,6 +29,7 @@ from .moments import Moments
 from .results import Notice, Unavailable
 
 _MAX_ITERATIONS = 200
+MAX_N = 10**15
 
 
 class InvalidHistogram(DataError):
@@ -77,7 +78,9 @@ def check_histogram(edges, counts) -> Histogram:
         raise InvalidHistogram(f"edges must increase strictly; edge {i} does not", pointer=f"/histogram/edges/{i}")
     if not np.isfinite(c).all() or (c < 0).any() or (c != np.round(c)).any():
         i = int(np.argmax(~np.isfinite(c) | (c < 0) | (c != np.round(c))))
-        raise InvalidHistogram(f"counts are non-negative whole numbers; count {i} is {c[i]!r}", pointer=f"/histogram/counts/{i}")
+        raise InvalidHistogram(f"counts are non-negative whole numbers; count {i} is {float(c[i])!r}", pointer=f"/histogram/counts/{i}")
+    if c.sum() > MAX_N:
+        raise InvalidHistogram(f"the counts add up to {c.sum():.3g}, beyond {MAX_N:.0e}", pointer="/histogram/counts")
     if c.sum() < 2:
         raise InvalidHistogram(f"the counts add up to {int(c.sum())}; at least 2 values are needed", pointer="/histogram/counts")
     if np.isinf(e[0]) and c[0] > 0 and np.isinf(e[-1]) and c[-1] > 0 and c.size == 2:
@@ -172,34 +175,65 @@ class BinnedMoments:
     notices: tuple[Notice, ...]
 
 
+def _truncated_moments(fit: NormalFit, lo: float, hi: float, centre: float) -> np.ndarray:
+    """E[(X - centre)^k], k = 1..4, for X normal (fit) restricted to (lo, hi].
+
+    Raw moments of the standard normal truncated to [a, b] by the recursion
+    M_k = (k-1) M_(k-2) + (a^(k-1) phi(a) - b^(k-1) phi(b)) / Z, shifted and scaled.
+    """
+    a, b = (lo - fit.mean) / fit.sd, (hi - fit.mean) / fit.sd
+    z = float(special.ndtr(b) - special.ndtr(a)) if a < 0 else float(special.ndtr(-a) - special.ndtr(-b))
+    z = max(z, 1e-300)
+
+    def edge(x: float, k: int) -> float:
+        return 0.0 if math.isinf(x) else x ** (k - 1) * math.exp(-0.5 * x * x) / math.sqrt(2.0 * math.pi)
+
+    m = [1.0, (edge(a, 1) - edge(b, 1)) / z]
+    for k in range(2, 5):
+        m.append((k - 1) * m[k - 2] + (edge(a, k) - edge(b, k)) / z)
+    shift = (fit.mean - centre) / fit.sd
+    out = np.empty(4)
+    for k in range(1, 5):
+        out[k - 1] = fit.sd**k * sum(math.comb(k, j) * m[j] * shift ** (k - j) for j in range(k + 1))
+    return out
+
+
 def binned_moments(h: Histogram, fit: NormalFit, sheppard: bool) -> BinnedMoments:
-    """Moments of the binned data from representative points, optionally with Sheppard's
-    corrections ([1]; [2]: m2 - h^2/12 and m4 - h^2 m2 / 2 + 7 h^4 / 240, for equal widths)."""
+    """Moments of the binned data: closed bins from their midpoints, optionally with
+    Sheppard's corrections ([1]; [2]: m2 - h^2/12 and m4 - h^2 m2 / 2 + 7 h^4 / 240, for
+    equal widths, scaled by the closed bins' share); an open-ended bin contributes the
+    fitted normal's own conditional moments within it, not a point."""
     points, open_used = _representatives(h, fit)
     n = h.n
     w = h.counts / n
+    e = h.edges
     mean = float(np.dot(w, points))
-    d = points - mean
-    m2 = float(np.dot(w, d * d))
-    m3 = float(np.dot(w, d**3))
-    m4 = float(np.dot(w, d**4))
+    closed = np.ones(h.counts.size, dtype=bool)
+    closed[open_used] = False
+    d = points[closed] - mean
+    wc = w[closed]
+    m2, m3, m4 = float(np.dot(wc, d**2)), float(np.dot(wc, d**3)), float(np.dot(wc, d**4))
+    for i in open_used:
+        _, c2, c3, c4 = _truncated_moments(fit, e[i], e[i + 1], mean)
+        m2, m3, m4 = m2 + w[i] * c2, m3 + w[i] * c3, m4 + w[i] * c4
     notices = []
     if open_used:
         held = int(sum(h.counts[i] for i in open_used))
         notices.append(Notice(
-            "open-bins-imputed",
-            f"{held} values lie in open-ended bins; they were placed at the fitted normal's conditional "
-            "mean there, which pulls the binned moments towards a normal shape",
+            "open-bins-modelled",
+            f"{held} values lie in open-ended bins; their contribution to the moments is the fitted normal's tail "
+            "within those bins, so the binned shape leans towards normal there",
         ))
     applied = False
     if sheppard:
-        used = (h.counts > 0) & np.isfinite(h.edges[:-1]) & np.isfinite(h.edges[1:])
+        used = (h.counts > 0) & closed
         widths = h.widths[used]
+        share = float(w[closed].sum())
         if widths.size and np.allclose(widths, widths[0], rtol=1e-9, atol=0):
             width = float(widths[0])
-            m2_c = m2 - width * width / 12.0  # [2] 3.18, from the grouped m2
+            m2_c = m2 - share * width * width / 12.0  # [2] 3.18, from the grouped m2
             if m2_c > 0:
-                m4 = m4 - width * width * m2 / 2.0 + 7.0 * width**4 / 240.0  # [2] 3.18, grouped m2
+                m4 = m4 - share * (width * width * m2 / 2.0 - 7.0 * width**4 / 240.0)  # [2] 3.18, grouped m2
                 m2 = m2_c
                 applied = True
             else:

@@ -25,6 +25,7 @@ from dataclasses import dataclass
 from .errors import DataError
 from .moments import Moments
 
+MAX_N = 10**15
 # Relative slack for the feasibility checks: partials computed in floating point may
 # miss an exact bound by rounding (common practice: a few hundred ulps).
 _SLACK = 1e-9
@@ -48,33 +49,61 @@ class Partial:
 
 
 def check_partial(p: Partial, index: int) -> None:
-    """Refuse a shard that no set of real numbers can have, naming why."""
+    """Refuse a shard that no set of real numbers can have, naming why.
+
+    The bounds are those a summary is held to (see ``summary.py``): Pearson's
+    inequality, Dalén's limits on the shape of n values, and Bhatia and Davis's limit
+    on the variance within [min, max]. Sums computed around a rounded mean miss the
+    exact bounds by up to a few units of that rounding, relative to the shard's sd;
+    the slack allows for it.
+    """
     where = f"/partials/{index}"
-    if p.n < 1:
-        raise InfeasiblePartial(f"shard {index} has n={p.n}; a shard holds at least one value", pointer=f"{where}/n")
+    n = p.n
+    if n < 1:
+        raise InfeasiblePartial(f"shard {index} has n={n}; a shard holds at least one value", pointer=f"{where}/n")
+    if n > MAX_N:
+        raise InfeasiblePartial(f"shard {index} has n={n}, beyond {MAX_N:.0e}", pointer=f"{where}/n")
     if p.m2 < 0 or p.m4 < 0:
         raise InfeasiblePartial(f"shard {index}: m2 and m4 are sums of even powers and cannot be negative", pointer=where)
-    if p.n == 1 and (p.m2, p.m3, p.m4) != (0.0, 0.0, 0.0):
+    if n == 1 and (p.m2, p.m3, p.m4) != (0.0, 0.0, 0.0):
         raise InfeasiblePartial(f"shard {index} has one value, so m2, m3 and m4 must be 0", pointer=where)
     if p.m2 == 0 and (p.m3 != 0 or p.m4 != 0):
         raise InfeasiblePartial(f"shard {index}: m2 = 0 means all values are equal, so m3 and m4 must be 0", pointer=where)
-    if p.m2 > 0:
-        # Moment-ratio inequality for any distribution, here the shard's own values:
-        # (m4/n)/(m2/n)^2 >= 1 + (m3/n)^2/(m2/n)^3  (Pearson 1916).
-        b2 = p.m4 * p.n / (p.m2 * p.m2)
-        b1 = p.m3 * p.m3 * p.n / p.m2**3
-        if b2 < (1.0 + b1) * (1.0 - _SLACK):
-            raise InfeasiblePartial(
-                f"shard {index}: m4 is too small for its m2 and m3 (kurtosis {b2:.6g} < 1 + skewness^2 = {1 + b1:.6g}); "
-                "check that mk are sums of (x - shard mean)^k",
-                pointer=where,
-            )
     if p.minimum is not None and p.maximum is not None and p.minimum > p.maximum:
         raise InfeasiblePartial(f"shard {index}: min > max", pointer=where)
-    if p.minimum is not None and p.mean < p.minimum - _SLACK * abs(p.minimum):
+    if n == 1 and ((p.minimum is not None and p.minimum != p.mean) or (p.maximum is not None and p.maximum != p.mean)):
+        raise InfeasiblePartial(f"shard {index} has one value, so min and max equal its mean", pointer=where)
+    sd = math.sqrt(p.m2 / n)
+    slack = _SLACK + (8.0 * math.ulp(abs(p.mean)) / sd if sd > 0 else 0.0)
+    if p.minimum is not None and p.mean < p.minimum - slack * max(sd, abs(p.minimum)):
         raise InfeasiblePartial(f"shard {index}: mean below min", pointer=where)
-    if p.maximum is not None and p.mean > p.maximum + _SLACK * abs(p.maximum):
+    if p.maximum is not None and p.mean > p.maximum + slack * max(sd, abs(p.maximum)):
         raise InfeasiblePartial(f"shard {index}: mean above max", pointer=where)
+    if p.m2 == 0:
+        return
+    b2 = p.m4 * n / (p.m2 * p.m2)
+    b1 = p.m3 * p.m3 * n / p.m2**3
+    # Pearson (1916): b2 >= 1 + b1 for any distribution, the shard's own values included.
+    if b2 < (1.0 + b1) * (1.0 - slack):
+        raise InfeasiblePartial(
+            f"shard {index}: m4 is too small for its m2 and m3 (kurtosis {b2:.6g} < 1 + skewness^2 = {1 + b1:.6g}); "
+            "check that mk are sums of (x - shard mean)^k",
+            pointer=where,
+        )
+    # Dalen (1987): n values have b1 <= (n-2)^2/(n-1) and b2 <= (n^2 - 3n + 3)/(n - 1).
+    if n >= 2 and (b1 > (n - 2) ** 2 / (n - 1) * (1.0 + slack) + slack or b2 > (n * n - 3 * n + 3) / (n - 1) * (1.0 + slack)):
+        raise InfeasiblePartial(
+            f"shard {index}: no {n} values have this shape (skewness^2 {b1:.6g}, kurtosis {b2:.6g}; Dalen 1987)",
+            pointer=where,
+        )
+    if p.minimum is not None and p.maximum is not None:
+        # Bhatia & Davis (2000): variance <= (max - mean)(mean - min).
+        bound = (p.maximum - p.mean) * (p.mean - p.minimum)
+        if p.m2 / n > bound * (1.0 + slack) + slack * sd * sd:
+            raise InfeasiblePartial(
+                f"shard {index}: m2 is too large for values between min and max (Bhatia-Davis bound {bound:.6g} on m2/n)",
+                pointer=where,
+            )
 
 
 def merge_pair(a: Partial, b: Partial) -> Partial:
@@ -116,7 +145,14 @@ def merge_partials(parts: list[Partial]) -> Partial:
     canonical = sorted(parts, key=lambda p: (p.mean, p.n, p.m2, p.m3, p.m4,
                                              -math.inf if p.minimum is None else p.minimum,
                                              -math.inf if p.maximum is None else p.maximum))
-    return _tree(canonical)
+    # Merge around an anchor (the median shard mean): the shifted means are small and
+    # exact differences, so no intermediate mean is rounded at the offset's magnitude.
+    anchor = canonical[len(canonical) // 2].mean
+    shifted = [Partial(p.n, p.mean - anchor, p.m2, p.m3, p.m4) for p in canonical]
+    merged = _tree(shifted)
+    lo = None if any(p.minimum is None for p in parts) else min(p.minimum for p in parts)
+    hi = None if any(p.maximum is None for p in parts) else max(p.maximum for p in parts)
+    return Partial(merged.n, merged.mean + anchor, merged.m2, merged.m3, merged.m4, lo, hi)
 
 
 def moments_of(p: Partial) -> Moments:

@@ -9,8 +9,9 @@ summary must be one that some sample of that size could have:
 * a sample of n values has |g1| <= (n - 2) / sqrt(n - 1) and
   g2 + 3 <= (n^2 - 3n + 3) / (n - 1), both reached by n - 1 equal values and one other
   [2] (bounds recalled from memory; our tests check that the extreme sample attains them);
-* min <= q1 <= median <= q3 <= max and min <= mean <= max, and the variance is at most
-  (max - mean)(mean - min) [3].
+* min <= q1 <= median <= q3 <= max and min <= mean <= max, the variance is at most
+  (max - mean)(mean - min) [3], and the median lies within one (population) sd of the
+  mean [4].
 
 References
 ----------
@@ -18,6 +19,9 @@ References
        *Phil. Trans. R. Soc. A* 216, 429-457. doi:10.1098/rsta.1916.0009
 .. [2] Dalén, J. (1987). Algebraic bounds on standardized sample moments. *Statistics &
        Probability Letters* 5(5), 329-331. doi:10.1016/0167-7152(87)90097-8
+.. [4] Mallows, C. (1991). Another comment on O'Cinneide. *The American Statistician*
+       45(3), 257. doi:10.1080/00031305.1991.10475815 (|mean - median| <= sd; recalled
+       from memory)
 .. [3] Bhatia, R. and Davis, C. (2000). A better bound on the variance. *The American
        Mathematical Monthly* 107(4), 353-357. doi:10.2307/2589180
 """
@@ -30,6 +34,7 @@ from dataclasses import dataclass
 from .errors import DataError
 from .moments import Moments, g1_from_skewness, g2_from_kurtosis
 
+MAX_N = 10**15
 _SLACK = 1e-9  # rounding allowance on the bounds (a summary is often rounded to a few digits)
 
 
@@ -63,6 +68,8 @@ def summary_moments(s: Summary) -> Moments:
     n = s.n
     if n < 2:
         raise _fail(f"n={n}: a summary needs at least 2 values", "n")
+    if n > MAX_N:
+        raise _fail(f"n={n} is beyond {MAX_N:.0e}: the tests' small-sample corrections lose all precision there", "n")
     if not s.sd > 0:
         raise _fail(f"sd={s.sd!r}: a summary of varying data has sd > 0 (constant data have no shape)", "sd")
     m2 = s.sd * s.sd * ((n - 1) / n if s.sd_convention == "sample" else 1.0)
@@ -103,6 +110,13 @@ def summary_moments(s: Summary) -> Moments:
         raise _fail(f"mean={s.mean!r} is below min={s.minimum!r}", "mean")
     if s.maximum is not None and s.mean > s.maximum:
         raise _fail(f"mean={s.mean!r} is above max={s.maximum!r}", "mean")
+    if s.median is not None and abs(s.mean - s.median) > math.sqrt(m2) * (1 + _SLACK):
+        # For every distribution |mean - median| <= sd (the population sd) [4].
+        raise _fail(
+            f"median={s.median!r} is {abs(s.mean - s.median):.6g} from the mean, more than the sd "
+            f"{math.sqrt(m2):.6g} (population convention) that any sample allows",
+            "median",
+        )
     if s.minimum is not None and s.maximum is not None:
         # Bhatia & Davis (2000): population variance <= (max - mean)(mean - min) [3].
         bound = (s.maximum - s.mean) * (s.mean - s.minimum)

@@ -220,7 +220,7 @@ class TestRequireSpread:
 
     @pytest.mark.parametrize("n, minimum_n", [(0, 2), (1, 2), (2, 3)])
     def test_too_few_observations(self, n, minimum_n):
-        with pytest.raises(TooFewValues, match=f"only n={n}"):
+        with pytest.raises(TooFewValues, match=f"got n={n}"):
             require_spread(Sample.from_array(np.arange(n, dtype=float)), minimum_n=minimum_n)
 
     @pytest.mark.parametrize(

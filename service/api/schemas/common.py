@@ -67,12 +67,17 @@ class TextOptions(Schema):
 
     decimal = fields.String(
         load_default=".",
-        validate=validate.OneOf([".", ","]),
+        validate=validate.OneOf([".", ","], error="decimal must be '.' or ','"),
         metadata={"description": "decimal mark; with ',' only semicolons, tabs, spaces and newlines separate"},
     )
     column = fields.String(
         load_default=None,
-        metadata={"description": "for a table with a header of several names: the column to analyse, by name or 1-based number"},
+        metadata={"description": "for a table (several cells on every line): the column to analyse, by header name or 1-based number"},
+    )
+    layout = fields.String(
+        load_default="auto",
+        validate=validate.OneOf(["auto", "flat"], error="layout must be auto or flat"),
+        metadata={"description": "auto: one value per line, one line of values, or a table (needs column); flat: every cell in reading order"},
     )
 
 
@@ -126,6 +131,7 @@ class ProblemItem(Schema):
     detail = fields.String(required=True)
     line = fields.Integer(metadata={"description": "text bodies: 1-based line"})
     column = fields.Integer(metadata={"description": "text bodies: 1-based column"})
+    position = fields.Integer(metadata={"description": "JSON bodies that do not parse: byte offset of the fault"})
 
 
 class ProblemDocument(Schema):

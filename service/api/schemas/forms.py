@@ -14,12 +14,14 @@ from ...stats.moments import KURTOSIS_CONVENTIONS, SKEWNESS_CONVENTIONS
 from .common import values_field
 
 FORM_KEYS = ("values", "summary", "partials", "histogram")
+# Options that belong to one form; given with another they are a mistake, not a no-op.
+FORM_OPTIONS = {"missing": "values", "conventions": "summary", "sd_convention": "summary", "sheppard": "histogram"}
 
 
 class SummaryInput(Schema):
     """Summary statistics of a sample."""
 
-    n = fields.Integer(required=True, strict=True, validate=validate.Range(min=2), metadata={"description": "sample size"})
+    n = fields.Integer(required=True, strict=True, validate=validate.Range(min=2, max=10**15), metadata={"description": "sample size"})
     mean = fields.Float(required=True)
     sd = fields.Float(required=True, validate=validate.Range(min=0, min_inclusive=False),
                       metadata={"description": "standard deviation (sample, n-1, unless sd_convention is population)"})
@@ -42,7 +44,7 @@ class Conventions(Schema):
 class PartialInput(Schema):
     """One shard's aggregates: mk is the sum of (x - shard mean)^k over the shard."""
 
-    n = fields.Integer(required=True, strict=True, validate=validate.Range(min=1))
+    n = fields.Integer(required=True, strict=True, validate=validate.Range(min=1, max=10**15))
     mean = fields.Float(required=True)
     m2 = fields.Float(required=True, metadata={"description": "sum of (x - mean)^2 over the shard"})
     m3 = fields.Float(required=True, metadata={"description": "sum of (x - mean)^3 over the shard"})
@@ -79,12 +81,12 @@ class SampleObject(Schema):
     partials = fields.List(fields.Nested(PartialInput), load_default=None, validate=validate.Length(min=1),
                            metadata={"description": "shard aggregates, merged exactly (Chan et al.; Pebay 2008)"})
     histogram = fields.Nested(HistogramInput, load_default=None)
-    missing = fields.String(load_default="drop", validate=validate.OneOf(["drop", "reject"]),
+    missing = fields.String(load_default=None, validate=validate.OneOf(["drop", "reject"]),
                             metadata={"description": "values: drop missing values and count them (default), or reject the request"})
     conventions = fields.Nested(Conventions, load_default=None, metadata={"description": "summary: conventions of skewness and kurtosis"})
-    sd_convention = fields.String(load_default="sample", validate=validate.OneOf(["sample", "population"]),
+    sd_convention = fields.String(load_default=None, validate=validate.OneOf(["sample", "population"]),
                                   metadata={"description": "summary: sd with the n-1 divisor (sample, default) or n (population)"})
-    sheppard = fields.Boolean(load_default=False, metadata={"description": "histogram: apply Sheppard's corrections to the binned moments (equal widths)"})
+    sheppard = fields.Boolean(load_default=None, metadata={"description": "histogram: apply Sheppard's corrections to the binned moments (equal widths)"})
 
     @validates_schema
     def _one_form(self, data, **kwargs):
@@ -96,5 +98,6 @@ class SampleObject(Schema):
             )
             raise ValidationError(message, field_name=present[1] if len(present) > 1 else "values")
         form = present[0]
-        if form != "summary" and (data.get("conventions") is not None):
-            raise ValidationError("conventions apply to a summary only", field_name="conventions")
+        for option, owner in FORM_OPTIONS.items():
+            if data.get(option) is not None and owner != form:
+                raise ValidationError(f"{option} applies to {owner} only, not to {form}", field_name=option)

@@ -71,8 +71,8 @@ def _moment_tests(profile: Profile, alpha: float) -> dict[str, TestResult]:
     }
     if profile.form == "histogram":
         note = "moments from binned data" + (" with Sheppard's corrections" if profile.sheppard_applied else "")
-        if any(n.code == "open-bins-imputed" for n in profile.notices):
-            note += ", open-ended bins imputed from the fitted normal"
+        if any(n.code == "open-bins-modelled" for n in profile.notices):
+            note += ", open-ended bins modelled by the fitted normal"
         results = {
             k: r if not r.applicable else TestResult(
                 r.statistic, r.p_value, r.p_value_bound, True, r.reject,
@@ -142,6 +142,7 @@ def normality(profile: Profile, options: NormalityOptions = NormalityOptions()) 
         primary_test=options.primary_test,
         adequate_n=options.adequate_n,
         basis=BASIS[profile.form],
+        rounded=any(n.code == "rounded-data" for n in profile.notices),
     )
     return NormalityReport(tests=tests, verdict=verdict, warnings=profile.notices)
 

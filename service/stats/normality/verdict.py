@@ -39,7 +39,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 from ..results import Unavailable
-from .power import HIGH_POWER, power_against_skewness_one
+from .power import HIGH_POWER, has_table, power_against_skewness_one
 from .power import adequate_n as tabulated_n
 from .result import TestResult
 
@@ -102,7 +102,8 @@ def practical_size(n: int, G1: float | None, G2: float | None, skew_t: float, ku
         mean_ok = None
     else:
         mean_min_n = 25.0 * G1 * G1  # [5]
-        mean_ok = n > mean_min_n
+        # With fewer than 20 values G1 itself is too uncertain to apply the rule.
+        mean_ok = n > mean_min_n if n >= 20 else None
     return Practical(
         skewness=Unavailable("needs n >= 3 and a third moment") if G1 is None else G1,
         excess_kurtosis=Unavailable("needs n >= 4 and a fourth moment") if G2 is None else G2,
@@ -148,6 +149,7 @@ def decide_normality(
     primary_test: str | None = None,
     adequate_n: int | None = None,
     basis: str | None = None,
+    rounded: bool = False,
 ) -> Verdict:
     """Draw the verdict from ``tests`` (name -> result) for a sample of size ``n``."""
     primary = primary_test or default_primary(n, tests, form)
@@ -156,10 +158,9 @@ def decide_normality(
     support = _support(tests, primary)
     power = power_against_skewness_one(primary, n, alpha)
     if adequate_n is None:
-        # Where no table covers the test or alpha, fall back to the Shapiro-Wilk row at
-        # the 5% level, the most common setting.
-        adequate_n = tabulated_n(primary, alpha) or tabulated_n("shapiro_wilk", 0.05) or 0
-    large_n = tabulated_n(primary, alpha, HIGH_POWER) or tabulated_n("shapiro_wilk", 0.05, HIGH_POWER) or 0
+        adequate_n = tabulated_n(primary, alpha)
+    # Without a power figure no n is "large": a rejection is then never called minor.
+    large_n = tabulated_n(primary, alpha, HIGH_POWER)
     reasons: list[str] = []
     if basis:
         reasons.append(basis)
@@ -167,7 +168,10 @@ def decide_normality(
     support_line = (
         f"{len(support.rejecting)} of {decided} other tests that apply also reject at alpha={alpha:g}; "
         "they support, the primary test decides (rejecting when any test rejects would inflate false alarms)"
+        if decided else "no other test applies at this n"
     )
+    if result.applicable and result.reason:
+        reasons.append(f"note on {primary}: {result.reason}")
 
     if not result.applicable:
         reasons.append(f"the primary test, {primary}, does not apply: {result.reason}")
@@ -182,7 +186,7 @@ def decide_normality(
 
     if result.reject:
         reasons.append(f"{primary} rejects normality ({_fmt_p(result)} < alpha={alpha:g})")
-        if practical.exceeds_thresholds is False and n >= large_n:
+        if practical.exceeds_thresholds is False and large_n is not None and n >= large_n:
             reasons.append(
                 f"but the departure is small: |G1|={abs(G1):.3g} < {skewness_threshold:g} and "
                 f"|G2|={abs(G2):.3g} < {kurtosis_threshold:g}; with n={n} the test detects "
@@ -196,18 +200,34 @@ def decide_normality(
                     f"(thresholds {skewness_threshold:g} and {kurtosis_threshold:g})"
                 )
             elif practical.exceeds_thresholds is False:
+                below = f"below {large_n}" if large_n is not None else "with no power figure to call it large"
                 reasons.append(
-                    f"G1={G1:.3g} and G2={G2:.3g} are below the thresholds, but with n={n} (below {large_n}) "
+                    f"G1={G1:.3g} and G2={G2:.3g} are below the thresholds, but with n={n} ({below}) "
                     "a rejection signals a departure the moments do not show (two groups, a gap, outliers), "
                     "not a trivial one"
                 )
             label = "not_normal"
+        if rounded:
+            reasons.append(
+                "the data are rounded (see warnings): with many values on few points a test of a continuous "
+                "distribution can reject the rounding itself"
+            )
         reasons.append(support_line)
         return Verdict(False, label, primary, alpha, tuple(reasons), practical, support, power)
 
     reasons.append(f"{primary} does not reject normality ({_fmt_p(result)} >= alpha={alpha:g})")
     reasons.append(support_line)
-    if n < adequate_n:
+    if adequate_n is None:
+        reasons.append(
+            f"there is no power figure for {primary} at alpha={alpha:g}, so a non-rejection cannot be read as "
+            "normality (pass adequate_n to say from which n it may)"
+            if not has_table(primary, alpha)
+            else f"{primary} does not reach 80% power against a skewness of 1 at any tabulated n, so its "
+            "non-rejection cannot be read as normality (pass adequate_n to override)"
+        )
+        return Verdict(None, "inconclusive", primary, alpha, tuple(reasons), practical, support, power)
+    small = n < adequate_n
+    if small:
         if isinstance(power, float):
             power_text = f"it detects a skewness of 1 only about {power:.0%} of the time at this n"
         else:
@@ -216,5 +236,11 @@ def decide_normality(
             f"n={n} is small (below {adequate_n}): {power_text}; no evidence against normality "
             "is not evidence for it"
         )
+    if practical.exceeds_thresholds:
+        reasons.append(
+            f"the sample's shape departs by a practically relevant amount (G1={G1:.3g}, G2={G2:.3g}; thresholds "
+            f"{skewness_threshold:g} and {kurtosis_threshold:g}) that the test did not confirm"
+        )
+    if small or practical.exceeds_thresholds:
         return Verdict(None, "inconclusive", primary, alpha, tuple(reasons), practical, support, power)
     return Verdict(True, "consistent_with_normal", primary, alpha, tuple(reasons), practical, support, power)

@@ -12,7 +12,7 @@ import logging
 from dataclasses import dataclass
 
 import orjson
-from flask import Flask, Response, request
+from flask import Flask, Response, current_app, request
 from werkzeug.exceptions import HTTPException
 
 from ..stats.errors import DataError
@@ -104,7 +104,7 @@ def from_http_exception(exc: HTTPException) -> Problem:
     detail = {
         404: f"no resource at {request.path}",
         405: f"{request.method} is not allowed on {request.path}",
-        413: "the request body is larger than this service accepts",
+        413: f"the request body is larger than this service's limit of {current_app.config.get('MAX_BODY_BYTES')} bytes",
     }.get(status, exc.description or PROBLEM_TYPES[code].description)
     problem = Problem(code, detail, status=status)
     if status == 405:

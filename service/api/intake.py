@@ -19,7 +19,7 @@ from ..stats.forms import Sample, require_spread
 from ..stats.profile import Profile, profile_of_sample
 from .errors import Problem
 from .sample_input import InputInfo, Limits, build_sample
-from .schemas.common import TextOptions
+from .schemas.common import Number, TextOptions, Whole
 from .text_input import parse_text_values
 
 JSON_TYPES = ("application/json",)
@@ -39,8 +39,9 @@ def _pointer(path: list) -> str:
     return "/" + "/".join(str(p) for p in path) if path else ""
 
 
-def validation_problem(err: ValidationError, prefix: str = "") -> Problem:
+def validation_problem(err: ValidationError, prefix: str = "", schema: Schema | None = None) -> Problem:
     errors = []
+    accepted = sorted(schema.fields) if schema is not None else []
 
     def walk(messages, path):
         if isinstance(messages, dict):
@@ -48,6 +49,8 @@ def validation_problem(err: ValidationError, prefix: str = "") -> Problem:
                 walk(sub, path + ([] if key == "_schema" else [key]))
         elif isinstance(messages, list) and messages and all(isinstance(m, str) for m in messages):
             for message in messages:
+                if message == "Unknown field." and len(path) == 1 and accepted:
+                    message = f"unknown field; this endpoint accepts {', '.join(accepted)}"
                 errors.append({"pointer": prefix + _pointer(path), "detail": message})
         elif isinstance(messages, list):
             for i, sub in enumerate(messages):
@@ -123,7 +126,24 @@ def load_options(schema: Schema, data: dict, prefix: str = "") -> dict:
     try:
         return schema.load(data)
     except ValidationError as err:
-        raise validation_problem(err, prefix) from None
+        raise validation_problem(err, prefix, schema) from None
+
+
+def typed_query(schema: Schema, query: dict) -> dict:
+    """Query-string values are text; read the numbers the schema expects as numbers,
+    so that the same schema (which refuses strings in JSON) checks both."""
+    typed = {}
+    for name, value in query.items():
+        field = schema.fields.get(name)
+        try:
+            if isinstance(field, Whole):
+                value = int(value)
+            elif isinstance(field, Number):
+                value = float(value)
+        except ValueError:
+            pass  # left as text: the schema names the field and what is wrong
+        typed[name] = value
+    return typed
 
 
 def limits() -> Limits:
@@ -149,7 +169,8 @@ def _text_sample(options_cls: type[Schema], minimum_n: int) -> SampleRequest:
     missing = query.pop("missing", "drop")
     if missing not in ("drop", "reject"):
         raise Problem("invalid-request", "missing must be drop or reject", errors=[{"pointer": "/missing", "detail": f"got {missing!r}"}])
-    options = load_options(options_cls(), query)
+    schema = options_cls()
+    options = load_options(schema, typed_query(schema, query))
     parsed = parse_text_values(text, decimal=text_opts["decimal"], column=text_opts["column"],
                                layout=text_opts["layout"], missing=missing, max_values=limits().max_values)
     sample = Sample(parsed.values, parsed.missing)

@@ -19,8 +19,8 @@ from apispec.ext.marshmallow import MarshmallowPlugin
 from marshmallow import Schema
 
 from .. import __version__
-from .errors import PROBLEM_MEDIA_TYPE
-from .schemas.common import MISSING_TOKEN_DOC, OutputOptions, ProblemDocument, TextOptions, Unavailable
+from .errors import PROBLEM_MEDIA_TYPE, PROBLEM_TYPES
+from .schemas.common import MISSING_TOKEN_DOC, OutputOptions, ProblemDocument, ProblemType, TextOptions, Unavailable
 from .schemas.describe import DescribeOptions, DescribeRequest, DescribeResponse
 from .schemas.modality import MixtureOut, ModalityOptions, ModalityRequest, ModalityResponse, TwoComponentsOut
 from .schemas.normality import NormalityOptions, NormalityRequest, NormalityResponse
@@ -38,7 +38,7 @@ class Operation:
     response: type[Schema]
     examples: dict
     tag: str
-    errors: tuple[int, ...] = (400, 413, 415, 422)
+    errors: tuple[int, ...] = (400, 406, 413, 415, 422)
     get_form: bool = True
     extra: dict = field(default_factory=dict)
 
@@ -113,8 +113,9 @@ def example(name: str) -> dict:
 def _error_responses(codes) -> dict:
     return {
         str(code): {
-            "description": {400: "malformed body", 401: "missing or wrong API key", 413: "body or sample too large",
-                            415: "unsupported media type", 422: "valid syntax that cannot be analysed"}[code],
+            "description": {400: "malformed body", 401: "missing or wrong API key", 406: "the Accept header allows neither JSON nor CSV",
+                            413: "body or sample too large", 415: "unsupported media type",
+                            422: "valid syntax that cannot be analysed"}[code],
             "content": {PROBLEM_MEDIA_TYPE: {"schema": ProblemDocument}},
         }
         for code in codes
@@ -138,8 +139,9 @@ def _operations(op: Operation) -> dict:
     post = {
         "tags": [op.tag],
         "summary": op.summary,
-        "description": op.description,
         "operationId": op.path.strip("/").replace("/", "_") + "_post",
+        "description": op.description + " Query parameters other than format and field apply to text bodies "
+        "only; with a JSON body the options go in the body (a query option there is a 422).",
         "parameters": query(),
         "requestBody": {
             "required": True,
@@ -161,7 +163,9 @@ def _operations(op: Operation) -> dict:
             "in": "query",
             "name": "values",
             "required": True,
-            "description": "the sample as text, e.g. 1.2,3.4,5.6 (same rules as a text body)",
+            "description": "the sample as text, e.g. 1.2,3.4,5.6 (same rules as a text body; repeated values "
+            "parameters are joined). The request line is limited to 8190 bytes (a few hundred values): post longer "
+            "columns as a text body",
             "schema": {"type": "string"},
         }
         operations["get"] = {
@@ -197,6 +201,23 @@ def build_spec() -> dict:
     spec.components.schema("MixtureOut", schema=MixtureOut)
     for op in OPERATIONS:
         spec.path(path=op.path, operations=_operations(op))
+    spec.path(
+        path="/openapi.json",
+        operations={"get": {"tags": ["operations"], "summary": "this document", "operationId": "openapi",
+                            "responses": {"200": {"description": "the OpenAPI document",
+                                                  "content": {"application/json": {"schema": {"type": "object"}}}}}}},
+    )
+    spec.path(
+        path="/problems/{code}",
+        operations={"get": {
+            "tags": ["operations"], "summary": "what a problem type means", "operationId": "problem_type",
+            "parameters": [{"in": "path", "name": "code", "required": True, "schema": {"type": "string", "enum": sorted(PROBLEM_TYPES)}}],
+            "responses": {
+                "200": {"description": "the problem type", "content": {"application/json": {"schema": ProblemType}}},
+                "404": {"description": "no such problem type", "content": {PROBLEM_MEDIA_TYPE: {"schema": ProblemDocument}}},
+            },
+        }},
+    )
     spec.path(
         path="/healthz",
         operations={"get": {"tags": ["operations"], "summary": "liveness", "operationId": "healthz",

@@ -97,7 +97,10 @@ def csv_text(doc: dict) -> str:
     return out.getvalue()
 
 
-def field_value(doc: dict, field: str) -> str:
+def field_value(doc: dict, field: str) -> tuple[str, str | None]:
+    """The text of one dotted key and, when it has no value, why: a null (not decided,
+    not applicable) and an unavailable value both give an empty cell, the reason in a
+    header, so a cell formula sees one consistent thing."""
     node = doc
     for part in field.split("."):
         if isinstance(node, dict) and part in node:
@@ -110,19 +113,24 @@ def field_value(doc: dict, field: str) -> str:
             raise Problem("invalid-request", f"no field {field!r} in this response; fields start e.g. {', '.join(near) or ', '.join(keys[:12])}",
                           errors=[{"pointer": "/field", "detail": "unknown field"}])
     if isinstance(node, dict) and node.get("available") is False:
-        raise Problem("unanalysable-data", f"{field} is not available: {node.get('reason')}",
-                      errors=[{"pointer": "/field", "detail": str(node.get("reason"))}])
+        return "", f"not available: {node.get('reason')}"
     if isinstance(node, (dict, list)):
         raise Problem("invalid-request", f"{field} is a group, not one value; name one of its keys",
                       errors=[{"pointer": "/field", "detail": "not a leaf"}])
-    return _cell(node)
+    if node is None:
+        return "", "null: not decided or not applicable (see the full response)"
+    return _cell(node), None
 
 
 def respond(doc: dict) -> Response:
     """Send ``doc`` as JSON, CSV (Accept: text/csv or ?format=csv) or one field."""
     field = request.args.get("field")
     if field:
-        return Response(field_value(doc, field), mimetype="text/plain")
+        text, why = field_value(doc, field)
+        response = Response(text, mimetype="text/plain")
+        if why:
+            response.headers["Shapegauge-Empty-Reason"] = why
+        return response
     fmt = request.args.get("format")
     if fmt not in (None, "json", "csv"):
         raise Problem("invalid-request", "format must be json or csv", errors=[{"pointer": "/format", "detail": f"got {fmt!r}"}])

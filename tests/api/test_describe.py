@@ -111,7 +111,15 @@ class TestSpreadsheetOutput:
         x = np.array([float(v) for v in values.split(",")])
         assert float(r.get_data(as_text=True)) == pytest.approx(scipy.stats.skew(x, bias=False), rel=1e-12)
 
-    @pytest.mark.parametrize("field, status", [("skewness", 422), ("skewness.nope", 422), ("kurtosis.G2", 422)])
+    def test_unavailable_and_null_fields_give_an_empty_cell_with_the_reason(self, client):
+        r = client.get("/v1/describe?values=1,2,3&field=kurtosis.G2")
+        assert (r.status_code, r.get_data(as_text=True)) == (200, "")
+        assert "kurtosis needs n >= 4" in r.headers["Shapegauge-Empty-Reason"]
+        r = client.get("/v1/normality?values=1,2,3,4,5&field=verdict.normal")
+        assert (r.status_code, r.get_data(as_text=True)) == (200, "")
+        assert r.headers["Shapegauge-Empty-Reason"].startswith("null")
+
+    @pytest.mark.parametrize("field, status", [("skewness", 422), ("skewness.nope", 422)])
     def test_bad_fields(self, client, field, status):
         r = client.get(f"/v1/describe?values=1,2,3&field={field}")
         assert r.status_code == status

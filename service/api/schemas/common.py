@@ -17,6 +17,28 @@ class Unavailable(Schema):
     reason = fields.String(required=True)
 
 
+class Number(fields.Float):
+    """A JSON number. marshmallow's Float also takes "0.1" and true; a request that sends a
+    string where a number belongs has a bug the caller should hear about."""
+
+    def _deserialize(self, value, attr, data, **kwargs):
+        if isinstance(value, (str, bool)):
+            raise self.make_error("invalid")
+        return super()._deserialize(value, attr, data, **kwargs)
+
+
+class Whole(fields.Integer):
+    """A JSON integer: no strings, no booleans, no 2.5."""
+
+    def __init__(self, **kwargs):
+        super().__init__(strict=True, **kwargs)
+
+    def _deserialize(self, value, attr, data, **kwargs):
+        if isinstance(value, bool):
+            raise self.make_error("invalid")
+        return super()._deserialize(value, attr, data, **kwargs)
+
+
 def number(description: str, **kw) -> fields.Float:
     return fields.Float(required=True, metadata={"description": description}, **kw)
 
@@ -50,15 +72,15 @@ def values_field() -> ValuesField:
 
 
 class ShapeThresholds(Schema):
-    skewness_threshold = fields.Float(
+    skewness_threshold = Number(
         load_default=DEFAULT_SKEWNESS_THRESHOLD,
         validate=validate.Range(min=0, min_inclusive=False, max=100),
-        metadata={"description": "|G1| at or above this is labelled skewed (default 0.5, Bulmer 1979)"},
+        metadata={"exclusiveMinimum": 0, "description": "|G1| at or above this is labelled skewed (default 0.5, Bulmer 1979)"},
     )
-    kurtosis_threshold = fields.Float(
+    kurtosis_threshold = Number(
         load_default=DEFAULT_KURTOSIS_THRESHOLD,
         validate=validate.Range(min=0, min_inclusive=False, max=1000),
-        metadata={"description": "|G2| at or above this is labelled lepto- or platykurtic (default 1, common practice)"},
+        metadata={"exclusiveMinimum": 0, "description": "|G2| at or above this is labelled lepto- or platykurtic (default 1, common practice)"},
     )
 
 
@@ -107,8 +129,24 @@ class InputInfo(Schema):
     bins = fields.Raw(required=True, metadata={"type": ["integer", "null"], "description": "histogram: bins given"})
 
 
+# Every warning code a response may carry, with what it means (documentation; the
+# statistics layer emits them).
+WARNING_CODES = {
+    "rounded-data": "the values sit on a grid coarse enough, at this n, for normality tests to reject the rounding itself",
+    "small-sample": "fewer than 20 values: shape statistics are very uncertain",
+    "several-peaks": "the kernel density has several clear peaks: summaries describe a mixture of groups",
+    "open-bins-modelled": "a histogram's open-ended bins hold values, modelled by the fitted normal's tail",
+    "sheppard-not-applied": "Sheppard's correction was asked for but needs equal bin widths (or narrower bins)",
+    "ties-spread": "heavy ties were spread over their rounding unit before the dip test and the mixture fit",
+    "fit-time-limit": "the mixture fit reached its time limit",
+}
+
+
 class Notice(Schema):
-    code = fields.String(required=True, metadata={"description": "machine-readable warning code"})
+    code = fields.String(required=True, metadata={
+        "description": "machine-readable warning code: " + "; ".join(f"{k}: {v}" for k, v in WARNING_CODES.items()),
+        "enum": list(WARNING_CODES),
+    })
     message = fields.String(required=True)
 
 
@@ -132,6 +170,15 @@ class ProblemItem(Schema):
     line = fields.Integer(metadata={"description": "text bodies: 1-based line"})
     column = fields.Integer(metadata={"description": "text bodies: 1-based column"})
     position = fields.Integer(metadata={"description": "JSON bodies that do not parse: byte offset of the fault"})
+
+
+class ProblemType(Schema):
+    """GET /problems/<code>."""
+
+    type = fields.String(required=True)
+    title = fields.String(required=True)
+    status = fields.Integer(required=True)
+    description = fields.String(required=True)
 
 
 class ProblemDocument(Schema):

@@ -11,7 +11,7 @@ from __future__ import annotations
 from marshmallow import Schema, ValidationError, fields, validate, validates_schema
 
 from ...stats.moments import KURTOSIS_CONVENTIONS, SKEWNESS_CONVENTIONS
-from .common import values_field
+from .common import Number, Whole, values_field
 
 FORM_KEYS = ("values", "summary", "partials", "histogram")
 # Options that belong to one form; given with another they are a mistake, not a no-op.
@@ -21,17 +21,17 @@ FORM_OPTIONS = {"missing": "values", "conventions": "summary", "sd_convention": 
 class SummaryInput(Schema):
     """Summary statistics of a sample."""
 
-    n = fields.Integer(required=True, strict=True, validate=validate.Range(min=2, max=10**15), metadata={"description": "sample size"})
-    mean = fields.Float(required=True)
-    sd = fields.Float(required=True, validate=validate.Range(min=0, min_inclusive=False),
+    n = Whole(required=True, validate=validate.Range(min=2, max=10**15), metadata={"description": "sample size"})
+    mean = Number(required=True)
+    sd = Number(required=True, validate=validate.Range(min=0, min_inclusive=False),
                       metadata={"description": "standard deviation (sample, n-1, unless sd_convention is population)"})
-    skewness = fields.Float(load_default=None, metadata={"description": "in conventions.skewness (default G1)"})
-    kurtosis = fields.Float(load_default=None, metadata={"description": "excess kurtosis in conventions.kurtosis (default G2)"})
-    median = fields.Float(load_default=None)
-    q1 = fields.Float(load_default=None)
-    q3 = fields.Float(load_default=None)
-    min = fields.Float(load_default=None)
-    max = fields.Float(load_default=None)
+    skewness = Number(load_default=None, metadata={"description": "in conventions.skewness (default G1)"})
+    kurtosis = Number(load_default=None, metadata={"description": "excess kurtosis in conventions.kurtosis (default G2)"})
+    median = Number(load_default=None)
+    q1 = Number(load_default=None)
+    q3 = Number(load_default=None)
+    min = Number(load_default=None)
+    max = Number(load_default=None)
 
 
 class Conventions(Schema):
@@ -44,13 +44,13 @@ class Conventions(Schema):
 class PartialInput(Schema):
     """One shard's aggregates: mk is the sum of (x - shard mean)^k over the shard."""
 
-    n = fields.Integer(required=True, strict=True, validate=validate.Range(min=1, max=10**15))
-    mean = fields.Float(required=True)
-    m2 = fields.Float(required=True, metadata={"description": "sum of (x - mean)^2 over the shard"})
-    m3 = fields.Float(required=True, metadata={"description": "sum of (x - mean)^3 over the shard"})
-    m4 = fields.Float(required=True, metadata={"description": "sum of (x - mean)^4 over the shard"})
-    min = fields.Float(load_default=None)
-    max = fields.Float(load_default=None)
+    n = Whole(required=True, validate=validate.Range(min=1, max=10**15))
+    mean = Number(required=True)
+    m2 = Number(required=True, metadata={"description": "sum of (x - mean)^2 over the shard"})
+    m3 = Number(required=True, metadata={"description": "sum of (x - mean)^3 over the shard"})
+    m4 = Number(required=True, metadata={"description": "sum of (x - mean)^4 over the shard"})
+    min = Number(load_default=None)
+    max = Number(load_default=None)
 
 
 class EdgesField(fields.Raw):

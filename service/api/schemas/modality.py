@@ -4,22 +4,22 @@ from __future__ import annotations
 
 from marshmallow import Schema, fields, validate
 
-from .common import Envelope, MethodRef, maybe, nullable, number
+from .common import Envelope, MethodRef, Number, Whole, maybe, nullable, number
 from .forms import SampleObject
 
 
 class ModalityOptions(Schema):
-    alpha = fields.Float(
+    alpha = Number(
         load_default=None,
         validate=validate.Range(min=1e-6, max=0.5),
         metadata={"description": "significance level of the dip test (default 0.05, or SHAPEGAUGE_DEFAULT_ALPHA)"},
     )
-    max_components = fields.Integer(
+    max_components = Whole(
         load_default=4,
         validate=validate.Range(min=1, max=6),
         metadata={"description": "largest number of mixture components tried (1-6; default 4; at most n/10 are fitted)"},
     )
-    seed = fields.Integer(
+    seed = Whole(
         load_default=0,
         validate=validate.Range(min=0, max=2**32 - 1),
         metadata={"description": "seed of the k-means++ starts and of tie spreading; the same seed gives the same answer"},

@@ -5,12 +5,12 @@ from __future__ import annotations
 from marshmallow import Schema, fields, validate
 
 from ...stats.normality.battery import TEST_NAMES
-from .common import Envelope, MethodRef, ShapeThresholds, maybe, nullable, number
+from .common import Envelope, MethodRef, Number, ShapeThresholds, Whole, maybe, nullable, number
 from .forms import SampleObject
 
 
 class NormalityOptions(ShapeThresholds):
-    alpha = fields.Float(
+    alpha = Number(
         load_default=None,
         validate=validate.Range(min=1e-6, max=0.5),
         metadata={"description": "significance level of every test (default 0.05, or the service's SHAPEGAUGE_DEFAULT_ALPHA)"},
@@ -20,7 +20,7 @@ class NormalityOptions(ShapeThresholds):
         validate=validate.OneOf(TEST_NAMES),
         metadata={"description": "the test that decides the verdict (default: raw values shapiro_wilk up to n=5000, anderson_darling above; summaries and partials dagostino_pearson; histograms chi_square)"},
     )
-    adequate_n = fields.Integer(
+    adequate_n = Whole(
         load_default=None,
         validate=validate.Range(min=0, max=10**9),
         metadata={"description": "below this n a non-rejection is 'inconclusive' (default: where the primary test reaches 80% power against a skewness of 1)"},

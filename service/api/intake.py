@@ -13,7 +13,7 @@ from dataclasses import dataclass
 
 import orjson
 from flask import current_app, request
-from marshmallow import Schema, ValidationError
+from marshmallow import Schema, ValidationError, fields
 
 from ..stats.forms import Sample, require_spread
 from ..stats.profile import Profile, profile_of_sample
@@ -140,6 +140,8 @@ def typed_query(schema: Schema, query: dict) -> dict:
                 value = int(value)
             elif isinstance(field, Number):
                 value = float(value)
+            elif isinstance(field, fields.List) and isinstance(field.inner, Number):
+                value = [float(v) for v in value.split(",") if v.strip()]
         except ValueError:
             pass  # left as text: the schema names the field and what is wrong
         typed[name] = value

@@ -24,6 +24,7 @@ from .schemas.common import MISSING_TOKEN_DOC, OutputOptions, ProblemDocument, P
 from .schemas.describe import DescribeOptions, DescribeRequest, DescribeResponse
 from .schemas.modality import MixtureOut, ModalityOptions, ModalityRequest, ModalityResponse, TwoComponentsOut
 from .schemas.normality import NormalityOptions, NormalityRequest, NormalityResponse
+from .schemas import results as r
 
 OPENAPI_VERSION = "3.1.0"
 
@@ -96,6 +97,64 @@ OPERATIONS = (
         examples={"values": ("raw values with two missing", "demo.json"),
                   "histogram": ("the same sample as a histogram", "histogram.json")},
         tag="analysis",
+    ),
+    Operation(
+        path="/v1/tails",
+        summary="Tail probabilities, out-of-limit parts per million and quantiles under several models",
+        description=(
+            "For each value, interval or probability asked about: the z-score, the normal model's probability "
+            "(with its log), the empirical share with a Wilson interval, the fitted mixture's probability, "
+            "Chebyshev and Cantelli bounds; Cornish-Fisher, empirical and mixture quantiles; parts per million "
+            "outside specification limits. Answers come in request order."
+        ),
+        request=r.TailsRequest,
+        options=r.TailsOptions,
+        response=r.TailsResponse,
+        examples={"values": ("tail questions about the demo sample", "tails.json"),
+                  "summary": ("the same questions from summary statistics", "tails_summary.json")},
+        tag="analysis",
+    ),
+    Operation(
+        path="/v1/transform",
+        summary="Box-Cox and Yeo-Johnson: lambda with its interval, a simple nearby lambda, normality before and after",
+        description="Maximum-likelihood lambda with a profile-likelihood interval for both families (Box-Cox needs "
+                    "positive data), a named lambda inside the interval when there is one, and the shape and "
+                    "normality verdict before and after; with a note on back-transforming results.",
+        request=r.TransformRequest,
+        options=r.TransformOptions,
+        response=r.TransformResponse,
+        examples={"values": ("the demo sample", "demo.json")},
+        tag="analysis",
+    ),
+    Operation(
+        path="/v1/diagnose",
+        summary="The one call: describe, normality and modality (tails and a recommendation when asked), one verdict",
+        description="Everything about one sample from one sort, one set of moments and one mixture fit, with an "
+                    "overall verdict {label, normal, flags, summary}: a label and flags for programs, one sentence "
+                    "for a person.",
+        request=r.DiagnoseRequest,
+        options=r.DiagnoseOptions,
+        response=r.DiagnoseResponse,
+        examples={"values": ("the demo sample, with tail questions and a goal", "diagnose.json"),
+                  "histogram": ("the demo sample as a histogram", "histogram.json")},
+        tag="analysis",
+    ),
+)
+
+JSON_ONLY_OPERATIONS = (
+    Operation(
+        path="/v1/recommend",
+        summary="The follow-up test for an intended analysis, with alternatives, a transform and cautions",
+        description="For a goal (one_sample_mean, two_sample, paired, k_sample, correlation, regression_residuals, "
+                    "control_chart, capability) and its samples in any form: the recommended test and why, the "
+                    "alternatives, a transformation when one helps, cautions, the rules that fired (each from the "
+                    "literature), and for capability the indices. Advice, not a decision.",
+        request=r.RecommendRequest,
+        options=r.RecommendOptions,
+        response=r.RecommendResponse,
+        examples={"two_sample": ("two kilns compared", "recommend.json")},
+        tag="analysis",
+        get_form=False,
     ),
 )
 
@@ -180,6 +239,28 @@ def _operations(op: Operation) -> dict:
     return operations
 
 
+def _json_operations(op: Operation) -> dict:
+    return {"post": {
+        "tags": [op.tag],
+        "summary": op.summary,
+        "description": op.description,
+        "operationId": op.path.strip("/").replace("/", "_") + "_post",
+        "parameters": [{"in": "query", "schema": OutputOptions}],
+        "requestBody": {"required": True, "content": {"application/json": {
+            "schema": op.request,
+            "examples": {name: {"summary": text, "value": example(file)} for name, (text, file) in op.examples.items()},
+        }}},
+        "responses": {
+            "200": {"description": "the analysis", "content": {
+                "application/json": {"schema": op.response},
+                "text/csv": {"schema": {"type": "string", "description": "key,value rows with dotted keys"}},
+                "text/plain": {"schema": {"type": "string", "description": "one value, when ?field= is given"}},
+            }},
+            **_error_responses((400, 406, 413, 415, 422)),
+        },
+    }}
+
+
 @lru_cache(maxsize=1)
 def build_spec() -> dict:
     spec = APISpec(
@@ -199,8 +280,13 @@ def build_spec() -> dict:
     spec.components.schema("Unavailable", schema=Unavailable)
     spec.components.schema("TwoComponentsOut", schema=TwoComponentsOut)
     spec.components.schema("MixtureOut", schema=MixtureOut)
+    for name in ("IntervalOut", "EmpiricalOut", "ProbabilityOut", "PpmOut", "LimitsOut", "SuggestedOut", "ShapeOut",
+                 "TransformHintOut", "CapabilityOut", "TailsBody", "RecommendBody"):
+        spec.components.schema(name, schema=getattr(r, name))
     for op in OPERATIONS:
         spec.path(path=op.path, operations=_operations(op))
+    for op in JSON_ONLY_OPERATIONS:
+        spec.path(path=op.path, operations=_json_operations(op))
     spec.path(
         path="/openapi.json",
         operations={"get": {"tags": ["operations"], "summary": "this document", "operationId": "openapi",

@@ -33,7 +33,8 @@ def to_document(obj):
     if isinstance(obj, Unavailable):
         return {"available": False, "reason": obj.reason}
     if dataclasses.is_dataclass(obj) and not isinstance(obj, type):
-        return {f.name: to_document(getattr(obj, f.name)) for f in dataclasses.fields(obj)}
+        # A trailing underscore only dodges a Python keyword: lambda_ is published as lambda.
+        return {f.name.rstrip("_"): to_document(getattr(obj, f.name)) for f in dataclasses.fields(obj)}
     if isinstance(obj, dict):
         return {str(k): to_document(v) for k, v in obj.items()}
     if isinstance(obj, (list, tuple)):

@@ -121,7 +121,8 @@ class ServiceInfo(Schema):
 
 
 class InputInfo(Schema):
-    form = fields.String(required=True, metadata={"enum": ["values", "summary", "partials", "histogram"]})
+    form = fields.String(required=True, metadata={"enum": ["values", "summary", "partials", "histogram", "samples"],
+                                                  "description": "the sample's form; samples: several (recommend), n and missing summed"})
     n = fields.Integer(required=True, metadata={"description": "values analysed (missing ones excluded)"})
     missing = fields.Integer(required=True, metadata={"description": "missing values dropped (raw values only)"})
     label = fields.Raw(required=True, metadata={"type": ["string", "null"], "description": "column name from a text header"})
@@ -139,6 +140,7 @@ WARNING_CODES = {
     "sheppard-not-applied": "Sheppard's correction was asked for but needs equal bin widths (or narrower bins)",
     "ties-spread": "heavy ties were spread over their rounding unit before the dip test and the mixture fit",
     "fit-time-limit": "the mixture fit reached its time limit",
+    "cornish-fisher-not-monotone": "with this skewness and kurtosis the Cornish-Fisher quantiles are not monotone in p",
 }
 
 

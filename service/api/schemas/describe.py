@@ -82,10 +82,14 @@ class DescribeMethods(Schema):
     labels = fields.String(required=True)
 
 
-class DescribeResponse(Envelope):
+class DescribeBody(Schema):
     location = fields.Nested(Location, required=True)
     spread = fields.Nested(Spread, required=True)
     skewness = fields.Nested(Skewness, required=True)
     kurtosis = fields.Nested(Kurtosis, required=True)
     within_sd = fields.Nested(WithinSd, required=True)
     methods = fields.Nested(DescribeMethods, required=True)
+
+
+class DescribeResponse(Envelope, DescribeBody):
+    pass

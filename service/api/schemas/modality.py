@@ -89,8 +89,12 @@ class ModalityVerdictOut(Schema):
     reasons = fields.List(fields.String(), required=True)
 
 
-class ModalityResponse(Envelope):
+class ModalityBody(Schema):
     mixture = fields.Raw(required=True, metadata={"oneOf": [{"$ref": "#/components/schemas/MixtureOut"}, {"$ref": "#/components/schemas/Unavailable"}]})
     dip = fields.Nested(DipOut, required=True)
     bimodality_coefficient = fields.Nested(BimodalityCoefficientOut, required=True)
     verdict = fields.Nested(ModalityVerdictOut, required=True)
+
+
+class ModalityResponse(Envelope, ModalityBody):
+    pass

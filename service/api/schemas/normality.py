@@ -85,6 +85,10 @@ class Verdict(Schema):
     power = maybe("number", "estimated power of the primary test against a skewness of 1 at this n and alpha")
 
 
-class NormalityResponse(Envelope):
+class NormalityBody(Schema):
     tests = fields.Nested(Tests, required=True)
     verdict = fields.Nested(Verdict, required=True)
+
+
+class NormalityResponse(Envelope, NormalityBody):
+    pass

@@ -19,7 +19,7 @@ from .config import load_config
 
 def create_app(config: Mapping[str, Any] | None = None) -> Flask:
     """Build the app: defaults, then ``SHAPEGAUGE_*`` variables, then ``config``."""
-    from .api import analysis, errors, meta
+    from .api import analysis, errors, meta, ops
 
     app = Flask(__name__, static_folder=None)
     app.config.update(load_config())
@@ -28,6 +28,7 @@ def create_app(config: Mapping[str, Any] | None = None) -> Flask:
     app.config["MAX_CONTENT_LENGTH"] = app.config["MAX_BODY_BYTES"]
     logging.getLogger("shapegauge").setLevel(app.config["LOG_LEVEL"])
     errors.register(app)
+    ops.register(app)
     app.register_blueprint(analysis.bp)
     app.register_blueprint(meta.bp)
     return app

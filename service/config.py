@@ -36,6 +36,9 @@ SETTINGS: dict[str, tuple[Any, Callable[[str], Any], str]] = {
     "FIT_TIME_LIMIT": (10.0, _float, "seconds one request's mixture fitting may take (a safety net, flagged when hit)"),
     "DEFAULT_ALPHA": (0.05, _float, "significance level when a request gives none"),
     "LOG_LEVEL": ("INFO", _text, "level of the service's own log lines"),
+    "API_KEYS": ("", _text, "comma-separated API keys; when set (or API_KEYS_FILE), /v1/ needs one"),
+    "API_KEYS_FILE": ("", _text, "file with one API key per line (# comments allowed)"),
+    "CORS_ORIGINS": ("", _text, "comma-separated origins allowed to call from a browser, or *; empty: CORS off"),
 }
 
 

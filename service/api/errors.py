@@ -12,7 +12,7 @@ import logging
 from dataclasses import dataclass
 
 import orjson
-from flask import Flask, Response, current_app, request
+from flask import Flask, Response, current_app, g, request
 from werkzeug.exceptions import HTTPException
 
 from ..stats.errors import DataError
@@ -79,6 +79,7 @@ class Problem(Exception):
             "status": self.status,
             "detail": self.detail,
             "instance": request.path if request else None,
+            "request_id": g.get("request_id") if g else None,  # RFC 9457 section 3.2 extension member
         }
         if self.errors:
             body["errors"] = self.errors
@@ -89,6 +90,8 @@ def problem_response(problem: Problem) -> Response:
     response = Response(orjson.dumps(problem.document()), status=problem.status, mimetype=PROBLEM_MEDIA_TYPE)
     if problem.status == 405 and getattr(problem, "allowed", None):
         response.headers["Allow"] = ", ".join(problem.allowed)
+    for name, value in getattr(problem, "headers", {}).items():
+        response.headers[name] = value
     return response
 
 

@@ -12,7 +12,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 import orjson
-from flask import current_app, request
+from flask import current_app, g, request
 from marshmallow import Schema, ValidationError, fields
 
 from ..stats.forms import Sample, require_spread
@@ -178,6 +178,7 @@ def _text_sample(options_cls: type[Schema], minimum_n: int) -> SampleRequest:
     sample = Sample(parsed.values, parsed.missing)
     require_spread(sample, minimum_n=minimum_n)
     profile = profile_of_sample(sample, options.get("quantile_definition", "hf7"))
+    g.sample_n = sample.n
     return SampleRequest(options, profile, InputInfo("values", sample.n, parsed.missing, parsed.label))
 
 
@@ -198,6 +199,7 @@ def read_sample_request(schema_cls: type[Schema], options_cls: type[Schema], *, 
             )
         options = load_options(schema_cls(), load_json_body())
         built = build_sample(options, limits(), quantile_definition=options.get("quantile_definition", "hf7"), minimum_n=minimum_n)
+        g.sample_n = built.input.n
         return SampleRequest(options, built.profile, built.input)
     raise Problem(
         "unsupported-media-type",

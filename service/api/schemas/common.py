@@ -191,6 +191,7 @@ class ProblemDocument(Schema):
     status = fields.Integer(required=True)
     detail = fields.String(required=True)
     instance = fields.String(metadata={"type": ["string", "null"]})
+    request_id = fields.String(metadata={"type": ["string", "null"], "description": "the X-Request-ID of the request: quote it when reporting a fault"})
     errors = fields.List(fields.Nested(ProblemItem))
 
 

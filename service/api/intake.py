@@ -190,14 +190,17 @@ def read_sample_request(schema_cls: type[Schema], options_cls: type[Schema], *, 
     if request.method in ("GET", "HEAD") or mimetype in TEXT_TYPES:
         return _text_sample(options_cls, minimum_n)
     if mimetype in JSON_TYPES or mimetype.endswith("+json"):
-        stray = sorted(_query_options())
-        if stray:
-            raise Problem(
-                "invalid-request",
-                f"with a JSON body the options go in the body, not the query string: move {', '.join(stray)} into the JSON object",
-                errors=[{"pointer": f"/{name}", "detail": "query parameter with a JSON body"} for name in stray],
-            )
-        options = load_options(schema_cls(), load_json_body())
+        body = load_json_body()
+        query = _query_options()
+        text_only = {k: query.pop(k) for k in list(query) if k in TextOptions().fields}
+        load_options(TextOptions(), text_only)  # still checked, so a typo is a 422
+        g.ignored_options = sorted(text_only)
+        twice = sorted(set(query) & set(body))
+        if twice:
+            raise Problem("invalid-request", f"{', '.join(twice)} given both in the body and in the query string; give each once",
+                          errors=[{"pointer": f"/{name}", "detail": "given twice"} for name in twice])
+        schema = schema_cls()
+        options = load_options(schema, {**body, **typed_query(options_cls(), query)})
         built = build_sample(options, limits(), quantile_definition=options.get("quantile_definition", "hf7"), minimum_n=minimum_n)
         g.sample_n = built.input.n
         return SampleRequest(options, built.profile, built.input)

@@ -199,8 +199,8 @@ def _operations(op: Operation) -> dict:
         "tags": [op.tag],
         "summary": op.summary,
         "operationId": op.path.strip("/").replace("/", "_") + "_post",
-        "description": op.description + " Query parameters other than format and field apply to text bodies "
-        "only; with a JSON body the options go in the body (a query option there is a 422).",
+        "description": op.description + " Options go in the JSON body or in the query string (not both for "
+        "the same option); decimal, column and layout apply to text bodies only.",
         "parameters": query(),
         "requestBody": {
             "required": True,

@@ -15,7 +15,7 @@ import math
 
 import numpy as np
 import orjson
-from flask import Response, request
+from flask import Response, g, request
 
 from .. import __version__
 from ..stats.results import Unavailable
@@ -54,6 +54,10 @@ def document(info: InputInfo, result) -> dict:
     warnings and the standing caution."""
     body = to_document(result)
     warnings = body.pop("warnings", [])
+    ignored = g.get("ignored_options") if g else None
+    if ignored:
+        warnings.append({"code": "option-ignored",
+                         "message": f"{', '.join(ignored)} apply to text bodies only and were ignored with a JSON body"})
     return {
         "service": {"name": "shapegauge", "version": __version__},
         "input": to_document(info),

@@ -35,14 +35,18 @@ def _request(url: str, body: bytes | None = None, content_type: str = "applicati
 
 
 @pytest.fixture(scope="module")
-def server():
+def server(tmp_path_factory):
     port = _free_port()
+    # The log goes to a file, not a pipe: nobody reads a pipe while the tests run, and a
+    # full pipe would block gunicorn's access log (and every worker with it).
+    log = open(tmp_path_factory.mktemp("gunicorn") / "server.log", "w+b")
     env = {**os.environ, "SHAPEGAUGE_BIND": f"127.0.0.1:{port}", "SHAPEGAUGE_WORKERS": "2"}
     gunicorn = Path(sys.executable).with_name("gunicorn")
     proc = subprocess.Popen(
         [str(gunicorn), "-c", str(ROOT / "docker" / "gunicorn.conf.py"), "service:create_app()"],
-        cwd=ROOT, env=env, stdout=subprocess.PIPE, stderr=subprocess.STDOUT,
+        cwd=ROOT, env=env, stdout=log, stderr=subprocess.STDOUT,
     )
+    proc.log = log
     base = f"http://127.0.0.1:{port}"
     deadline = time.monotonic() + 30
     while True:
@@ -53,7 +57,8 @@ def server():
             pass
         if proc.poll() is not None or time.monotonic() > deadline:
             proc.kill()
-            pytest.fail("gunicorn did not start:\n" + proc.stdout.read().decode(errors="replace"))
+            log.seek(0)
+            pytest.fail("gunicorn did not start:\n" + log.read().decode(errors="replace"))
         time.sleep(0.2)
     yield base, proc
     if proc.poll() is None:
@@ -95,7 +100,57 @@ def test_column_client_example(server, tmp_path):
     assert rows == {"input.n": "8", "input.missing": "2", "input.label": "cooling_h", "verdict.label": "inconclusive"}
 
 
+def _metric(base: str, name: str, labels: str) -> float:
+    _, _, text = _request(base + "/metrics")
+    for line in text.decode().splitlines():
+        if line.startswith(f"{name}{{{labels}}} "):
+            return float(line.rsplit(" ", 1)[1])
+    return 0.0
+
+
+def test_metrics_add_up_across_workers(server):
+    base, _ = server
+    labels = 'endpoint="/v1/describe",method="POST",status="200"'
+    before = _metric(base, "shapegauge_requests_total", labels)
+    for _ in range(30):  # new connections each time, so both workers answer some
+        assert _request(base + "/v1/describe", b'{"values": [1, 2, 4, 8, 9]}')[0] == 200
+    assert _metric(base, "shapegauge_requests_total", labels) - before == 30
+
+
+def _worker_rss(master: int) -> dict[int, int]:
+    children = Path(f"/proc/{master}/task/{master}/children").read_text().split()
+    rss = {}
+    for pid in map(int, children):
+        for line in Path(f"/proc/{pid}/status").read_text().splitlines():
+            if line.startswith("VmRSS:"):
+                rss[pid] = int(line.split()[1]) * 1024
+    return rss
+
+
+def test_bounded_load_smoke(server):
+    """A short loopback load (clients = 2 x workers, at most 300 requests or 8 s): no
+    failed request, and no worker's memory grows by more than 50 MB. The full load test
+    is tests/benchmarks/bench_load.py."""
+    from tests.benchmarks.loadgen import run_load
+
+    base, proc = server
+    port = int(base.rsplit(":", 1)[1])
+    body = (ROOT / "service" / "api" / "examples" / "demo.json").read_bytes()
+    run_load(port, "/v1/diagnose", body, clients=4, max_requests=40, max_seconds=5)  # warm up
+    before = _worker_rss(proc.pid)
+    result = run_load(port, "/v1/diagnose", body, clients=4, max_requests=300, max_seconds=8)
+    after = _worker_rss(proc.pid)
+    print("load smoke:", result.line())
+    assert result.failures == 0 and result.requests > 0
+    for pid, rss in after.items():
+        assert rss - before.get(pid, rss) < 50 * 2**20, (pid, before, after)
+
+
 def test_sigterm_stops_cleanly(server):
     _, proc = server
     proc.send_signal(signal.SIGTERM)
     assert proc.wait(30) == 0
+    proc.log.seek(0)
+    lines = [json.loads(line) for line in proc.log.read().decode().splitlines() if line.startswith("{")]
+    diagnoses = [line for line in lines if line["path"] == "/v1/diagnose"]
+    assert diagnoses and all(line["status"] == 200 and line["n"] == "58" and line["request_id"] for line in diagnoses)

@@ -140,6 +140,7 @@ WARNING_CODES = {
     "sheppard-not-applied": "Sheppard's correction was asked for but needs equal bin widths (or narrower bins)",
     "ties-spread": "heavy ties were spread over their rounding unit before the dip test and the mixture fit",
     "fit-time-limit": "the mixture fit reached its time limit",
+    "option-ignored": "a text-body option (decimal, column, layout) came with a JSON body, where it means nothing",
     "cornish-fisher-not-monotone": "with this skewness and kurtosis the Cornish-Fisher quantiles are not monotone in p",
 }
 

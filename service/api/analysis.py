@@ -28,6 +28,7 @@ from .schemas.results import (DiagnoseOptions, DiagnoseRequest, RecommendRequest
                               TransformOptions, TransformRequest)
 
 bp = Blueprint("analysis", __name__, url_prefix="/v1")
+TRANSFORM_MIN_N = 20
 
 
 def _alpha(o: dict) -> float:
@@ -121,8 +122,8 @@ def transform():
 def transform_hint(profile, options: testing.NormalityOptions) -> dict | None:
     """The Box-Cox (or, for data not all positive, Yeo-Johnson) fit for a recommendation,
     offered only when it makes the data closer to normal."""
-    if profile.sample is None:
-        return None
+    if profile.sample is None or profile.n < TRANSFORM_MIN_N:
+        return None  # too few values to tell whether a transformation helps
     report = transforms.transform(profile.sample, options)
     fit = report.box_cox if report.box_cox.applicable else report.yeo_johnson
     if fit.after is None or fit.lambda_ is None:

@@ -126,6 +126,10 @@ class _Builder:
         self.rules.append(name)
 
 
+def _g(value: float | None) -> str:
+    return "n/a" if value is None else f"{value:.2g}"
+
+
 def _one_location(b: _Builder, s: SampleShape, opts: NormalityOptions, what: str) -> None:
     """Shared by one-sample means and paired differences."""
     skewed, heavy = _skewed(s, opts.skewness_threshold), _heavy(s, opts.kurtosis_threshold)
@@ -134,7 +138,7 @@ def _one_location(b: _Builder, s: SampleShape, opts: NormalityOptions, what: str
         b.recommended = Choice(
             "Wilcoxon signed-rank test" + (" on the differences" if what == "differences" else ""),
             f"n={s.n} is small and the {what} are {'skewed' if skewed else 'heavy-tailed'} "
-            f"(G1={s.G1:.2g}, G2={s.G2:.2g}); the t-test's mean is not yet close to normal (Cochran's rule "
+            f"(G1={_g(s.G1)}, G2={_g(s.G2)}); the t-test's mean is not yet close to normal (Cochran's rule "
             f"needs n > {25 * s.G1 ** 2:.0f}). The signed-rank test is about the pseudo-median and assumes "
             "the distribution is symmetric; the sign test drops that assumption and tests the median",
         )
@@ -144,7 +148,7 @@ def _one_location(b: _Builder, s: SampleShape, opts: NormalityOptions, what: str
         b.rule("cochran_rule_not_met")
         b.recommended = Choice(
             "bootstrap confidence interval for the mean (BCa), or a t-test on a transformed scale",
-            f"the {what} are skewed (G1={s.G1:.2g}) and n={s.n} is below Cochran's rule n > 25 G1^2 = "
+            f"the {what} are skewed (G1={_g(s.G1)}) and n={s.n} is below Cochran's rule n > 25 G1^2 = "
             f"{25 * s.G1 ** 2:.0f}, so the t interval's coverage is off on one side",
         )
         b.alternatives.append(Choice("one-sample t-test", "acceptable once n exceeds Cochran's rule"))
@@ -153,7 +157,8 @@ def _one_location(b: _Builder, s: SampleShape, opts: NormalityOptions, what: str
         b.recommended = Choice(
             "one-sample t-test" if what == "values" else "paired t-test (a one-sample t-test on the differences)",
             "the mean's sampling distribution is close to normal here"
-            + (f" (n={s.n} > 25 G1^2 = {25 * s.G1 ** 2:.0f}, Cochran's rule)" if s.G1 is not None else ""),
+            + (f" (n={s.n} > 25 G1^2 = {25 * s.G1 ** 2:.0f}, Cochran's rule)" if s.G1 is not None and not _clt_short(s)
+               else f" (|G1| = {abs(s.G1):.2g} is below the skewness threshold)" if s.G1 is not None else ""),
         )
         b.alternatives.append(Choice("Wilcoxon signed-rank test", "if the question is about a typical value rather than the mean"))
 

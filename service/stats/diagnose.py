@@ -8,7 +8,9 @@ Overall labels, in order of precedence:
 * ``multimodal``: the modality verdict finds two or more peaks (whatever the tests say,
   a mean and sd then describe a mixture of groups);
 * ``skewed`` / ``heavy_tailed`` / ``light_tailed``: the primary normality test rejects and
-  the dominant departure, |G1| or |G2| measured against its own threshold, reaches it;
+  |G1| or |G2| reaches its threshold; when both do (skew brings kurtosis with it), the
+  label is heavy_tailed only if G2 exceeds the kurtosis of a gamma shape with the same
+  skewness (1.5 G1^2) by the kurtosis threshold, else skewed; both flags are set either way;
 * ``non_normal``: the test rejects at a small n with small G1 and G2 (gaps, outliers);
 * ``near_normal``: the test rejects, but in a large sample and by a departure below the
   thresholds (the normality verdict's ``minor_departure``);
@@ -31,6 +33,7 @@ from .profile import Profile
 from .results import Unavailable
 from .tails import TailsReport, tails
 
+GAMMA_KURTOSIS = 1.5  # excess kurtosis / skewness^2 of every gamma distribution (6/k over (2/sqrt k)^2)
 LABELS = ("insufficient_data", "multimodal", "skewed", "heavy_tailed", "light_tailed", "non_normal", "near_normal",
           "normal", "inconclusive")
 
@@ -92,13 +95,17 @@ def _label(profile: Profile, n: NormalityReport, m: ModalityReport) -> str:
         return "near_normal"
     G1, G2 = profile.moments.skewness("G1"), profile.moments.excess_kurtosis("G2")
     p = v.practical
-    # The dominant departure, each magnitude measured against its own threshold: heavy
-    # tails inflate the sample skewness, so the larger ratio names the shape.
-    skew = abs(G1) / p.skewness_threshold if G1 is not None else 0.0
-    kurt = abs(G2) / p.kurtosis_threshold if G2 is not None else 0.0
-    if max(skew, kurt) < 1.0:
+    skewed = G1 is not None and abs(G1) >= p.skewness_threshold
+    tailed = G2 is not None and abs(G2) >= p.kurtosis_threshold
+    if not (skewed or tailed):
         return "non_normal"
-    if skew >= kurt:
+    if skewed and tailed and G2 > 0:
+        # Both magnitudes are large. Skew alone brings kurtosis with it (Pearson: G2 >=
+        # G1^2 - 2; a gamma distribution has G2 = 1.5 G1^2), while a few extreme values in
+        # heavy tails inflate the sample skewness. The tails are the story only when the
+        # kurtosis exceeds what a gamma shape with this skewness has, by the threshold.
+        skewed = G2 <= GAMMA_KURTOSIS * G1 * G1 + p.kurtosis_threshold
+    if skewed:
         return "skewed"
     return "heavy_tailed" if G2 > 0 else "light_tailed"
 
@@ -106,20 +113,26 @@ def _label(profile: Profile, n: NormalityReport, m: ModalityReport) -> str:
 def _sentence(label: str, profile: Profile, n: NormalityReport, m: ModalityReport) -> str:
     G1, G2 = profile.moments.skewness("G1"), profile.moments.excess_kurtosis("G2")
     size = f"n={profile.n}"
-    return {
-        "insufficient_data": f"Too few values ({size}) to judge the shape.",
-        "multimodal": f"The values form {m.verdict.n_modes} groups ({size}); a single mean and sd would hide them.",
-        "skewed": f"The data are {'right' if (G1 or 0) > 0 else 'left'}-skewed (skewness {G1:.2f}, {size}); "
-                  "methods that assume normality may mislead.",
-        "heavy_tailed": f"The data have heavier tails than a normal distribution (excess kurtosis {G2:.2f}, {size}); "
-                        "expect more extreme values than normal limits predict.",
-        "light_tailed": f"The data have lighter tails than a normal distribution (excess kurtosis {G2:.2f}, {size}).",
-        "non_normal": f"The data depart from normality in a way skewness and kurtosis do not show ({size}); look at a plot.",
-        "near_normal": f"The data are not exactly normal, but the departure is small ({size}); normal-theory methods should be fine.",
-        "normal": f"The data are consistent with a normal distribution ({size}).",
-        "inconclusive": f"No evidence against normality, but {size} is too little (or the shape too uncertain) "
-                        "to call the data normal.",
-    }[label]
+    if label == "insufficient_data":
+        return f"Too few values ({size}) to judge the shape."
+    if label == "multimodal":
+        return f"The values form {m.verdict.n_modes} groups ({size}); a single mean and sd would hide them."
+    if label == "skewed":
+        return (f"The data are {'right' if G1 > 0 else 'left'}-skewed (skewness {G1:.2f}, {size}); methods that "
+                "assume normality may mislead.")
+    if label == "heavy_tailed":
+        return (f"The data have heavier tails than a normal distribution (excess kurtosis {G2:.2f}, {size}); expect "
+                "more extreme values than normal limits predict.")
+    if label == "light_tailed":
+        return f"The data have lighter tails than a normal distribution (excess kurtosis {G2:.2f}, {size})."
+    if label == "non_normal":
+        return f"The data depart from normality in a way skewness and kurtosis do not show ({size}); look at a plot."
+    if label == "near_normal":
+        return f"The data are not exactly normal, but the departure is small ({size}); normal-theory methods should be fine."
+    if label == "normal":
+        return f"The data are consistent with a normal distribution ({size})."
+    return (f"No evidence against normality, but {size} is too little (or the shape too uncertain) to call the "
+            "data normal.")
 
 
 @dataclass(frozen=True)

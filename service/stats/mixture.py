@@ -7,11 +7,14 @@ seed. Every fit has a variance floor, an iteration cap and a tolerance; a start 
 components collapse is dropped, and k = 1 (which has a closed form) is always there to
 fall back on.
 
-Large samples are fitted on a weighted compression: the standardised values are
-rounded to a grid of step ``delta`` and the grid points weighted by their counts, with
-the within-cell variance ``delta^2 / 12`` added back to each component's variance
-(Sheppard's correction). Histograms enter the same way, bins as weighted midpoints
-with each bin's ``width^2 / 12``.
+Large samples are fitted on a weighted compression: the standardised values are pooled
+into cells of width ``grid_step``, each cell keeping its count and the exact first and
+second moments of its values, so the M-step is exact and pooling costs only the
+responsibilities held constant within a cell. Histograms enter the same way, bins as
+weighted midpoints with the uniform-within-bin spread ``width^2 / 12`` (Sheppard).
+
+When a larger k ends below a smaller one (EM stuck at a poorer optimum), it is restarted
+from the smaller fit with its widest component split, so the candidates stay nested.
 
 BIC = -2 log L + (3k - 1) log n. Selection walks up from k = 1: a larger k replaces the
 one selected so far only when its BIC is lower by more than 2 (differences below 2 are
@@ -56,8 +59,8 @@ class MixtureOptions:
     starts: int = 4
     max_iterations: int = 300
     short_iterations: int = 8
-    tolerance: float = 1e-4  # stop when the total log-likelihood gains less than
-    tolerance_per_value: float = 1e-6  # tolerance + tolerance_per_value * n per iteration
+    tolerance: float = 1e-3  # stop when an iteration gains less than this in log-likelihood
+    tolerance_per_value: float = 1e-8  # ... plus this much per value (1e-2 at n = 10^6)
     seed: int = 0
     compress_above: int = 500
     grid_step: float = 0.05  # standardised units: cells of a twentieth of an sd
@@ -235,13 +238,29 @@ def exact_log_likelihood(data: Weighted, weights, means, variances) -> float:
     return float(np.dot(data.w, log_f) + np.dot(slope, data.s1) + 0.5 * np.dot(curvature, data.s2))
 
 
+def _from_centres(data: Weighted, centres: np.ndarray):
+    """Weights and variances of the points nearest each centre (one k-means assignment
+    step), so a start's components are as narrow as the groups they start on."""
+    y, w = data.y, data.w
+    nearest = np.argmin(np.abs(y[:, None] - centres[None, :]), axis=1)
+    k = centres.size
+    mass = np.bincount(nearest, weights=w, minlength=k)
+    total = w.sum()
+    spread = np.bincount(nearest, weights=w * (y - centres[nearest]) ** 2 + data.s2, minlength=k)
+    variances = np.where(mass > 0, spread / np.where(mass > 0, mass, 1.0), 1.0)
+    weights = np.maximum(mass / total, 1.0 / (10.0 * k))
+    return weights / weights.sum(), centres, np.maximum(variances, VARIANCE_FLOOR)
+
+
 def _starts(data: Weighted, k: int, options: MixtureOptions):
-    """Deterministic starts: quantiles of the weighted points, then k-means++ seeds."""
+    """Deterministic starts: quantiles of the weighted points, then k-means++ seeds ([5]),
+    each with the weights and variances of the points nearest its centres."""
     y, w = data.y, data.w
     cum = np.cumsum(w) / w.sum()
     probs = (np.arange(k) + 0.5) / k
-    means = y[np.minimum(np.searchsorted(cum, probs), y.size - 1)]
-    yield np.full(k, 1.0 / k), means.astype(float), np.full(k, 1.0 / (k * k))
+    means = y[np.minimum(np.searchsorted(cum, probs), y.size - 1)].astype(float)
+    if np.unique(means).size == k:
+        yield _from_centres(data, means)
     rng = np.random.default_rng([options.seed, k])
     for _ in range(options.starts - 1):
         centres = [y[rng.choice(y.size, p=w / w.sum())]]
@@ -252,8 +271,7 @@ def _starts(data: Weighted, k: int, options: MixtureOptions):
             centres.append(y[rng.choice(y.size, p=d2 / d2.sum())])
         if len(centres) < k:
             continue
-        centres = np.sort(np.array(centres, dtype=float))
-        yield np.full(k, 1.0 / k), centres, np.full(k, 1.0 / (k * k))
+        yield _from_centres(data, np.sort(np.array(centres, dtype=float)))
 
 
 def fit_mixtures(data: Weighted, options: MixtureOptions = MixtureOptions()) -> MixtureFit:
@@ -278,9 +296,11 @@ def fit_mixtures(data: Weighted, options: MixtureOptions = MixtureOptions()) -> 
     best = [int(rows_k[np.argmax(log_lik[rows_k])]) for k in range(1, K + 1)
             if (rows_k := np.flatnonzero((ks == k) & ~collapsed)).size]
     ks = ks[best]
+    rest = replace(options, max_iterations=max(1, options.max_iterations - options.short_iterations))
     log_lik, weights, means, variances, converged, more, collapsed = _em_batch(
-        data, weights[best], means[best], variances[best], options, deadline)
+        data, weights[best], means[best], variances[best], rest, deadline)
     iterations = iterations[best] + more
+    _nest(data, ks, log_lik, weights, means, variances, converged, iterations, options, deadline)
     timed_out = time.monotonic() > deadline
     log_scale = math.log(data.scale)
     candidates: list[Candidate] = []
@@ -300,6 +320,31 @@ def fit_mixtures(data: Weighted, options: MixtureOptions = MixtureOptions()) -> 
         if cand.bic < selected.bic - BIC_TIE_BAND:
             selected = cand
     return MixtureFit(fits[selected.k], tuple(candidates), selected.k, data.compressed, int(data.y.size), timed_out, fits)
+
+
+def _nest(data: Weighted, ks, log_lik, weights, means, variances, converged, iterations, options, deadline) -> None:
+    """Make the candidates nested: a fit with k components contains every fit with k - 1
+    (one component of weight zero), so its maximum likelihood is at least as high. When
+    EM from the k-starts ended lower, restart it from the (k-1)-fit with its widest
+    component split in two (means +- sd/2, variances 3/4, weights halved) and keep the
+    better of the two. Rows are updated in place."""
+    row = {int(k): i for i, k in enumerate(ks)}
+    for k in sorted(row)[1:]:
+        i, j = row[k], row.get(k - 1)
+        if j is None or log_lik[i] >= log_lik[j]:
+            continue
+        w, mu, var = weights[j, : k - 1], means[j, : k - 1], variances[j, : k - 1]
+        wide = int(np.argmax(var))
+        sd = math.sqrt(var[wide])
+        w0, m0, v0 = np.zeros(weights.shape[1]), np.zeros(weights.shape[1]), np.ones(weights.shape[1])
+        w0[:k] = np.concatenate([np.delete(w, wide), [w[wide] / 2, w[wide] / 2]])
+        m0[:k] = np.concatenate([np.delete(mu, wide), [mu[wide] - sd / 2, mu[wide] + sd / 2]])
+        v0[:k] = np.concatenate([np.delete(var, wide), [0.75 * var[wide]] * 2])
+        ll, w1, m1, v1, conv, its, dead = _em_batch(data, w0[None], m0[None], v0[None], options, deadline)
+        if not dead[0] and ll[0] > log_lik[i]:
+            log_lik[i], weights[i], means[i], variances[i] = ll[0], w1[0], m1[0], v1[0]
+            # The reported iterations are those of the path that produced the fit.
+            converged[i], iterations[i] = conv[0], its[0]
 
 
 def _one_component(data: Weighted):

@@ -34,7 +34,7 @@ from scipy import optimize
 
 from .mixture import Candidate, Component, MixtureFit, MixtureOptions, fit_mixtures, weighted_from_bins, weighted_from_sorted
 from .normality.result import decide
-from .profile import Profile
+from .profile import Profile, rounding_unit
 from .results import Method, Notice, Unavailable
 
 DIP_TEST = Method(
@@ -44,10 +44,12 @@ DIP_TEST = Method(
 )
 BC_THRESHOLD = 5.0 / 9.0  # [4]: the value for a uniform distribution
 STRONG_BIC = 10.0  # [6]: a BIC difference above 10 is "very strong" evidence
+CLEAR_VALLEY = 0.8  # common practice: a trough at most 80% of the lower peak is a visible dip
 MIN_PROMINENCE = 0.01  # a peak must rise 1% of its height above the dip beside it
 DIP_MIN_N = 4
 DIP_P_FLOOR = 1e-5  # the table's smallest tail probability
 MIN_N_PER_COMPONENT = 10  # common practice: do not fit more components than n/10
+MIN_LEVELS = 10  # fewer distinct values than this are point masses, not rounded data
 
 
 @dataclass(frozen=True)
@@ -60,7 +62,6 @@ class Extremum:
 class TwoComponents:
     ashman_d: float
     separation: float
-    means_apart_in_sd: float
 
 
 @dataclass(frozen=True)
@@ -131,12 +132,24 @@ def _density_and_slope(x: np.ndarray, comps: tuple[Component, ...]):
     return f, slope
 
 
+def _log_slope(x: np.ndarray, comps: tuple[Component, ...]) -> np.ndarray:
+    """f'/f, the slope of log f: the same sign as f' and finite even where f itself
+    underflows (groups a hundred sds apart)."""
+    logs = np.array([math.log(c.weight) - math.log(c.sd) - 0.5 * ((x - c.mean) / c.sd) ** 2 for c in comps])
+    resp = np.exp(logs - logs.max(axis=0))
+    resp /= resp.sum(axis=0)
+    pulls = np.array([-(x - c.mean) / c.sd**2 for c in comps])
+    return (resp * pulls).sum(axis=0)
+
+
 def extrema(comps: tuple[Component, ...]) -> tuple[list[Extremum], list[Extremum]]:
     """Modes and antimodes of a normal mixture density.
 
     All extrema lie within the span of the component means (a normal mixture's density
     is monotone outside it), so a 4096-point grid there, plus a margin, brackets every
-    sign change of the derivative; each is then refined by Brent's method.
+    sign change of the slope of log f; each is refined by Brent's method. A grid point
+    where the slope is exactly zero (the centre of a symmetric pair) is bracketed by its
+    neighbours rather than skipped.
     """
     lo = min(c.mean for c in comps)
     hi = max(c.mean for c in comps)
@@ -145,11 +158,14 @@ def extrema(comps: tuple[Component, ...]) -> tuple[list[Extremum], list[Extremum
         return [Extremum(float(lo), float(f[0]))], []
     margin = 0.05 * (hi - lo)
     grid = np.linspace(lo - margin, hi + margin, 4097)
-    _, slope = _density_and_slope(grid, comps)
-    sign = np.sign(slope)
+    sign = np.sign(_log_slope(grid, comps))
+    nonzero = np.flatnonzero(sign != 0)
     modes, antimodes = [], []
-    for i in np.flatnonzero(sign[:-1] * sign[1:] < 0):
-        root = optimize.brentq(lambda t: _density_and_slope(np.array([t]), comps)[1][0], grid[i], grid[i + 1], xtol=1e-12 * max(1.0, abs(grid[i])))
+    for i, j in zip(nonzero[:-1], nonzero[1:]):
+        if sign[i] == sign[j]:
+            continue
+        root = optimize.brentq(lambda t: _log_slope(np.array([t]), comps)[0], grid[i], grid[j],
+                               xtol=1e-12 * max(1.0, abs(grid[i])))
         value = float(_density_and_slope(np.array([root]), comps)[0][0])
         (modes if sign[i] > 0 else antimodes).append(Extremum(float(root), value))
     return _prominent(modes, antimodes)
@@ -204,9 +220,10 @@ def untied(profile: Profile, seed: int) -> tuple[np.ndarray | None, Notice | Non
         return None, None
     s = profile.sample.sorted
     n, distinct = s.size, profile.sample.n_distinct
-    if distinct >= 0.5 * n:
+    unit = rounding_unit(profile.sample)
+    # Only rounding spreads: a few distinct values (point masses) are data, not rounding.
+    if distinct >= 0.5 * n or distinct < MIN_LEVELS or unit is None:
         return s, None
-    unit = _resolution(s)
     rng = np.random.default_rng([seed, n])
     spread = np.sort(s + rng.uniform(-0.5 * unit, 0.5 * unit, n))
     return spread, Notice(
@@ -228,7 +245,9 @@ def dip_test(values: np.ndarray | None, form: str, alpha: float, spread: bool) -
     reason = "computed after spreading tied values over their rounding unit" if spread else None
     with warnings.catch_warnings(record=True) as caught:
         warnings.simplefilter("always")
-        statistic, p = diptest.diptest(values, sort_x=False)
+        # allow_zero=False: the dip of n values is at least 1/(2n) (the package's
+        # default would report 0 for evenly spaced values).
+        statistic, p = diptest.diptest(values, sort_x=False, allow_zero=False)
     if caught:
         extrapolated = "the p-value treats the table's largest n (72 000) as asymptotic"
         reason = f"{reason}; {extrapolated}" if reason else extrapolated
@@ -247,7 +266,6 @@ def _two_components(comps: tuple[Component, ...]) -> TwoComponents | Unavailable
     return TwoComponents(
         ashman_d=math.sqrt(2.0) * abs(gap) / math.sqrt(a.sd**2 + b.sd**2),  # [2], eq. 2
         separation=gap / (2.0 * (a.sd + b.sd)),  # [3]
-        means_apart_in_sd=abs(gap) / math.sqrt(0.5 * (a.sd**2 + b.sd**2)),
     )
 
 
@@ -313,14 +331,29 @@ def _verdict(profile: Profile, fit: MixtureFit, mixture: Mixture, dip: Dip, alph
         advantage = _best_unimodal_bic(fit) - fit.candidates[[c.k for c in fit.candidates].index(fit.selected_k)].bic
         reasons.append(f"the selected {fit.selected_k}-component mixture has {k_modes} modes on its fitted density")
         reasons.append(dip_text)
-        if dip.reject or advantage > STRONG_BIC:
-            if not dip.reject:
-                reasons.append(f"BIC prefers it over the best one-mode fit by {advantage:.1f} (> {STRONG_BIC:g}: very strong evidence)")
-            label = "bimodal" if k_modes == 2 else "multimodal"
+        label = "bimodal" if k_modes == 2 else "multimodal"
+        if dip.applicable:
+            # With raw values the dip test must agree: a flexible mixture also finds
+            # "peaks" in skewed or flat unimodal shapes, and BIC rewards it for that.
+            if dip.reject:
+                return ModalityVerdict(label, k_modes, tuple(reasons))
+            reasons.append(
+                "without the dip test's support the mixture's peaks are no evidence of groups: mixtures of normals "
+                "also model a skewed or flat single group with several components"
+            )
+            return ModalityVerdict("unimodal", 1, tuple(reasons))
+        # Binned data (no dip test): the peaks must be clear on the fitted density (every
+        # trough below CLEAR_VALLEY of the lower peak beside it) and BIC must prefer the
+        # mixture very strongly over the best one-mode fit.
+        clear = all(a.density <= CLEAR_VALLEY * min(l.density, r.density)
+                    for a, l, r in zip(mixture.antimodes, mixture.modes, mixture.modes[1:]))
+        if clear and advantage > STRONG_BIC:
+            reasons.append(f"the troughs are deep and BIC prefers the mixture over the best one-mode fit by "
+                           f"{advantage:.1f} (> {STRONG_BIC:g}: very strong evidence)")
             return ModalityVerdict(label, k_modes, tuple(reasons))
         reasons.append(
-            f"BIC prefers it over the best one-mode fit by only {advantage:.1f}, and without the dip test's support "
-            "this is no strong evidence of more than one peak"
+            f"on binned data the peaks count only with troughs below {CLEAR_VALLEY:.0%} of the lower peak and a BIC "
+            f"lead above {STRONG_BIC:g} (here {advantage:.1f}); this is no strong evidence of more than one peak"
         )
         return ModalityVerdict("unimodal", 1, tuple(reasons))
     reasons.append(

@@ -60,7 +60,8 @@ def profile_of_sample(sample: Sample, quantile_definition: str = "hf7") -> Profi
     s = sample.sorted
     q1, med, q3 = quantiles_sorted(s, (0.25, 0.5, 0.75), quantile_definition)
     order = OrderStats(float(s[0]), float(q1), float(med), float(q3), float(s[-1]))
-    moments = central_moments(sample.values)
+    # Moments from the sorted copy: the same values in any order give the same bits.
+    moments = central_moments(s)
     return Profile("values", moments, order, sample=sample, notices=sample_notices(sample, moments))
 
 

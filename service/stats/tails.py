@@ -133,6 +133,21 @@ def wilson(count: float, n: int, z: float = WILSON_Z) -> Interval:
     return Interval(max(0.0, centre - half), min(1.0, centre + half), 0.95)
 
 
+def _normal_between(za: float, zb: float) -> Probability:
+    """P(za < Z <= zb) and its log, from whichever tail keeps precision: the log as
+    log P(tail beyond the near end) + log1p(-P(beyond far end) / P(beyond near end)), so
+    it stays finite far out where the probability itself underflows."""
+    if za > 0:
+        near, far = float(special.log_ndtr(-za)), float(special.log_ndtr(-zb))
+    elif zb < 0:
+        near, far = float(special.log_ndtr(zb)), float(special.log_ndtr(za))
+    else:
+        p = float(special.ndtr(zb) - special.ndtr(za))
+        return Probability(p, _log(p))
+    log_p = near + math.log1p(-math.exp(far - near)) if far < near else -math.inf
+    return Probability(math.exp(log_p), log_p)
+
+
 def _normal_upper(z: float) -> Probability:
     return Probability(float(special.ndtr(-z)), float(special.log_ndtr(-z)))
 
@@ -167,10 +182,14 @@ def _empirical(profile: Profile, x: float, upper: bool) -> Empirical | Unavailab
 
 
 def _bounds(z: float, upper: bool) -> Bounds:
+    """Bounds on the probability asked about, so only when x lies beyond the mean on the
+    side asked about: Chebyshev's two-sided bound also bounds that one tail."""
     k = z if upper else -z
-    chebyshev: float | Unavailable = min(1.0, 1.0 / (k * k)) if abs(k) > 1 else Unavailable("|z| <= 1: Chebyshev's bound is 1")
-    cantelli: float | Unavailable = 1.0 / (1.0 + k * k) if k > 0 else Unavailable("x is not beyond the mean on this side")
-    return Bounds(chebyshev, cantelli)
+    if k <= 0:
+        side = Unavailable("x is not beyond the mean on this side: no bound below 1")
+        return Bounds(side, side)
+    chebyshev: float | Unavailable = 1.0 / (k * k) if k > 1 else Unavailable("|z| <= 1: Chebyshev's bound is 1")
+    return Bounds(chebyshev, 1.0 / (1.0 + k * k))
 
 
 def tail_point(profile: Profile, x: float, upper: bool, mixture: tuple[Component, ...] | None) -> TailPoint:
@@ -189,9 +208,7 @@ def tail_point(profile: Profile, x: float, upper: bool, mixture: tuple[Component
 def between(profile: Profile, a: float, b: float, mixture: tuple[Component, ...] | None) -> Between:
     m = profile.moments
     za, zb = (a - m.mean) / m.sd, (b - m.mean) / m.sd
-    # P(a < X <= b) from whichever tail keeps precision.
-    p = float(special.ndtr(-za) - special.ndtr(-zb)) if za > 0 else float(special.ndtr(zb) - special.ndtr(za))
-    normal = Probability(max(p, 0.0), _log(max(p, 0.0)))
+    normal = _normal_between(za, zb)
     lo, hi = _empirical(profile, a, True), _empirical(profile, b, True)
     if isinstance(lo, Unavailable) or isinstance(hi, Unavailable):
         empirical: Empirical | Unavailable = lo if isinstance(lo, Unavailable) else hi
@@ -241,10 +258,10 @@ def cornish_fisher_z(z: np.ndarray, skew: float, kurt: float) -> np.ndarray:
     return z + (z * z - 1) * skew / 6 + (z**3 - 3 * z) * kurt / 24 - (2 * z**3 - 5 * z) * skew * skew / 36
 
 
-def cornish_fisher_monotone(skew: float, kurt: float) -> bool:
-    """Is the expansion increasing in z? Checked numerically on z in [-6, 6] (the domain
-    of validity of [3], evaluated rather than quoted)."""
-    z = np.linspace(-6.0, 6.0, 2401)
+def cornish_fisher_monotone(skew: float, kurt: float, reach: float = 6.0) -> bool:
+    """Is the expansion increasing in z? Checked numerically on z in [-reach, reach] (the
+    domain of validity of [3], evaluated rather than quoted)."""
+    z = np.linspace(-reach, reach, 4001)
     return bool(np.all(np.diff(cornish_fisher_z(z, skew, kurt)) > 0))
 
 
@@ -265,7 +282,8 @@ def quantile_points(profile: Profile, probs, mixture: tuple[Component, ...] | No
     skew, kurt = m.skewness("G1"), m.excess_kurtosis("G2")
     notices = []
     cf_ok = skew is not None and kurt is not None
-    if cf_ok and not cornish_fisher_monotone(skew, kurt):
+    reach = max([6.0] + [abs(float(special.ndtri(p))) for p in probs])
+    if cf_ok and not cornish_fisher_monotone(skew, kurt, reach):
         notices.append(Notice(
             "cornish-fisher-not-monotone",
             f"with skewness {skew:.3g} and excess kurtosis {kurt:.3g} the Cornish-Fisher expansion is not monotone: "

@@ -114,17 +114,19 @@ def _fit(x: np.ndarray, kind: str, confidence: float, options: NormalityOptions)
     if kind == "box_cox" and x.min() <= 0:
         return TransformResult(False, "Box-Cox needs strictly positive data; Yeo-Johnson handles zero and negative values",
                                None, None, None, None, method)
-    if kind == "box_cox":
-        llf = lambda t: float(stats.boxcox_llf(t, x))  # noqa: E731
-    else:
-        llf = lambda t: float(stats.yeojohnson_llf(t, x))  # noqa: E731
+    family = stats.boxcox_llf if kind == "box_cox" else stats.yeojohnson_llf
+
+    def llf(t: float) -> float:
+        with np.errstate(over="ignore", invalid="ignore", divide="ignore"):
+            value = float(family(t, x))
+        return value if np.isfinite(value) else -np.inf
     result = optimize.minimize_scalar(lambda t: -llf(t), bounds=LAMBDA_RANGE, method="bounded",
                                       options={"xatol": 1e-10, "maxiter": 500})
     lam = float(result.x)
     interval = _profile_interval(llf, lam, confidence)
     transformed = stats.boxcox(x, lmbda=lam) if kind == "box_cox" else stats.yeojohnson(x, lmbda=lam)
     reason = None
-    if lam in LAMBDA_RANGE:
+    if min(abs(lam - bound) for bound in LAMBDA_RANGE) < 1e-4:
         reason = f"lambda reached the search bound {lam:g}; no power transformation in [-5, 5] fits well"
     finite = np.isfinite(transformed)
     if not finite.all() or np.ptp(transformed) == 0:

@@ -50,9 +50,9 @@ class ExtremumOut(Schema):
 
 
 class TwoComponentsOut(Schema):
-    ashman_d = number("Ashman's D = sqrt(2)|mu1 - mu2| / sqrt(sd1^2 + sd2^2); above 2 the components separate cleanly")
+    ashman_d = number("Ashman's D = sqrt(2)|mu1 - mu2| / sqrt(sd1^2 + sd2^2), the distance of the means in pooled "
+                      "sds; above 2 the components separate cleanly (equal normals are bimodal only beyond 2)")
     separation = number("(mu2 - mu1) / (2 (sd1 + sd2)), the bimodal separation index")
-    means_apart_in_sd = number("|mu1 - mu2| / pooled sd; equal normals are bimodal only above 2")
 
 
 class MixtureOut(Schema):

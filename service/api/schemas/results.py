@@ -69,7 +69,7 @@ class EmpiricalOut(Schema):
 
 
 class BoundsOut(Schema):
-    chebyshev = maybe("number", "two-sided Chebyshev bound 1/k^2 on P(|X - mean| >= k sd)")
+    chebyshev = maybe("number", "Chebyshev bound 1/k^2 (on both tails together, so on this one too), for x beyond the mean on this side")
     cantelli = maybe("number", "one-sided Cantelli bound 1/(1 + k^2)")
 
 
@@ -213,7 +213,8 @@ class RecommendRequest(RecommendOptions):
         k = len(data["samples"])
         if not lo <= k <= hi:
             want = str(lo) if lo == hi else f"{lo} to {hi}"
-            raise ValidationError(f"goal {data['goal']} takes {want} samples; got {k}", field_name="samples")
+            noun = "sample" if want == "1" else "samples"
+            raise ValidationError(f"goal {data['goal']} takes {want} {noun}; got {k}", field_name="samples")
 
 
 class ChoiceOut(Schema):

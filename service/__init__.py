@@ -19,7 +19,7 @@ from .config import load_config
 
 def create_app(config: Mapping[str, Any] | None = None) -> Flask:
     """Build the app: defaults, then ``SHAPEGAUGE_*`` variables, then ``config``."""
-    from .api import analysis, errors, meta, ops
+    from .api import analysis, errors, meta, monitoring, ops
 
     app = Flask(__name__, static_folder=None)
     app.config.update(load_config())
@@ -30,5 +30,6 @@ def create_app(config: Mapping[str, Any] | None = None) -> Flask:
     errors.register(app)
     ops.register(app)
     app.register_blueprint(analysis.bp)
+    app.register_blueprint(monitoring.bp)
     app.register_blueprint(meta.bp)
     return app

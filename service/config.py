@@ -30,6 +30,8 @@ def _text(text: str) -> str:
 SETTINGS: dict[str, tuple[Any, Callable[[str], Any], str]] = {
     "MAX_BODY_BYTES": (64 * 1024 * 1024, _int, "largest request body accepted (413 beyond)"),
     "MAX_VALUES": (2_000_000, _int, "most values in one sample, missing ones included (413 beyond)"),
+    "MAX_BATCH_SAMPLES": (1_000, _int, "most samples in one batch (413 beyond)"),
+    "MAX_BATCH_VALUES": (5_000_000, _int, "most raw values in one batch, all samples together (413 beyond)"),
     "MAX_PARTS": (100_000, _int, "most shard partials, or histogram bins, in one sample (413 beyond)"),
     "FIT_STARTS": (4, _int, "starts per k of every mixture fit (one from quantiles, the rest k-means++)"),
     "FIT_MAX_ITERATIONS": (300, _int, "EM iterations per mixture fit"),

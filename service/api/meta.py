@@ -4,6 +4,7 @@ the problem-type pages."""
 
 from __future__ import annotations
 
+from importlib import resources
 from pathlib import Path
 
 import numpy as np
@@ -44,6 +45,14 @@ window.onload = function () {
 
 def _json(doc, status: int = 200) -> Response:
     return Response(orjson.dumps(doc), status=status, mimetype="application/json")
+
+
+@bp.get("/")
+def index():
+    """A page for people: paste a column, read the verdict, see the plots. It calls the
+    public API like any other client and loads nothing from outside."""
+    page = resources.files("service.api").joinpath("static", "index.html").read_text()
+    return Response(page, mimetype="text/html")
 
 
 @bp.get("/healthz")

@@ -24,6 +24,7 @@ from .schemas.common import MISSING_TOKEN_DOC, OutputOptions, ProblemDocument, P
 from .schemas.describe import DescribeOptions, DescribeRequest, DescribeResponse
 from .schemas.modality import MixtureOut, ModalityOptions, ModalityRequest, ModalityResponse, TwoComponentsOut
 from .schemas.normality import NormalityOptions, NormalityRequest, NormalityResponse
+from .schemas import monitoring as m
 from .schemas import results as r
 
 OPENAPI_VERSION = "3.1.0"
@@ -139,6 +140,19 @@ OPERATIONS = (
                   "histogram": ("the demo sample as a histogram", "histogram.json")},
         tag="analysis",
     ),
+    Operation(
+        path="/v1/plot",
+        summary="An SVG: histogram with the fitted normal and mixture densities, and a normal Q-Q plot with a band",
+        description="kind=histogram (Freedman-Diaconis bins, fitted normal and mixture densities), qq (normal Q-Q "
+                    "plot with a simultaneous band from the Lilliefors critical value) or both. Title, axis labels and "
+                    "a text description inside the SVG for screen readers; the same input gives the same bytes.",
+        request=m.PlotRequest,
+        options=m.PlotOptions,
+        response=None,
+        examples={"values": ("the demo sample", "demo.json")},
+        tag="pictures",
+        errors=(400, 413, 415, 422),
+    ),
 )
 
 JSON_ONLY_OPERATIONS = (
@@ -154,6 +168,32 @@ JSON_ONLY_OPERATIONS = (
         response=r.RecommendResponse,
         examples={"two_sample": ("two kilns compared", "recommend.json")},
         tag="analysis",
+        get_form=False,
+    ),
+    Operation(
+        path="/v1/batch",
+        summary="Many named samples in one request, each diagnosed; a bad sample gets a problem in its slot",
+        description="samples: {name: sample}, each in any form, each diagnosed as by /v1/diagnose with the options "
+                    "given beside; results under the same names in the same order; fields trims every result to "
+                    "the dotted keys a job stores. Limits on the number of samples and values (413 beyond).",
+        request=m.BatchRequest,
+        options=m.BatchRequest,
+        response=m.BatchResponse,
+        examples={"monitoring": ("three kiln logs of one day, one of them garbled", "batch.json")},
+        tag="monitoring",
+        get_form=False,
+    ),
+    Operation(
+        path="/v1/compare",
+        summary="A sample against a reference: distribution, location, spread and shape tests, PSI, a drift verdict",
+        description="Two-sample Kolmogorov-Smirnov, Anderson-Darling k-sample, Cramer-von Mises, Welch (location), "
+                    "Brown-Forsythe (spread), the change in skewness and kurtosis, the population stability index, "
+                    "and a drift verdict {label: stable | shifted | rescaled | reshaped, material, flags, summary}.",
+        request=m.CompareRequest,
+        options=m.CompareOptions,
+        response=m.CompareResponse,
+        examples={"drift": ("this week's kiln against last month's", "compare.json")},
+        tag="monitoring",
         get_form=False,
     ),
 )
@@ -182,18 +222,22 @@ def _error_responses(codes) -> dict:
 
 
 def _operations(op: Operation) -> dict:
-    ok = {
-        "description": "the analysis",
-        "content": {
-            "application/json": {"schema": op.response},
-            "text/csv": {"schema": {"type": "string", "description": "key,value rows with dotted keys"}},
-            "text/plain": {"schema": {"type": "string", "description": "one value, when ?field= is given"}},
-        },
-    }
+    if op.response is None:  # a picture
+        ok = {"description": "the picture", "content": {"image/svg+xml": {"schema": {"type": "string"}}}}
+    else:
+        ok = {
+            "description": "the analysis",
+            "content": {
+                "application/json": {"schema": op.response},
+                "text/csv": {"schema": {"type": "string", "description": "key,value rows with dotted keys"}},
+                "text/plain": {"schema": {"type": "string", "description": "one value, when ?field= is given"}},
+            },
+        }
 
     def query() -> list[dict]:
         # Fresh dicts each time: apispec pops "schema" from a parameter as it expands it.
-        return [{"in": "query", "schema": s} for s in (OutputOptions, TextOptions, op.options)]
+        output = (OutputOptions,) if op.response is not None else ()
+        return [{"in": "query", "schema": s} for s in (*output, TextOptions, op.options)]
 
     post = {
         "tags": [op.tag],
@@ -283,6 +327,7 @@ def build_spec() -> dict:
     for name in ("IntervalOut", "EmpiricalOut", "ProbabilityOut", "PpmOut", "LimitsOut", "SuggestedOut", "ShapeOut",
                  "TransformHintOut", "CapabilityOut", "TailsBody", "RecommendBody"):
         spec.components.schema(name, schema=getattr(r, name))
+    spec.components.schema("BatchSlot", schema=m.BatchSlot)
     for op in OPERATIONS:
         spec.path(path=op.path, operations=_operations(op))
     for op in JSON_ONLY_OPERATIONS:

@@ -29,7 +29,6 @@ from prometheus_client import CONTENT_TYPE_LATEST, CollectorRegistry, Counter, G
 from .errors import Problem
 
 _REQUEST_ID = re.compile(r"^[A-Za-z0-9._-]{1,128}$")
-OPEN_PATHS = ("/healthz", "/readyz", "/metrics", "/openapi.json", "/docs", "/problems/", "/static/", "/")
 
 REQUESTS = Counter("shapegauge_requests_total", "HTTP requests answered", ["endpoint", "method", "status"])
 LATENCY = Histogram("shapegauge_request_seconds", "time to answer a request", ["endpoint"],

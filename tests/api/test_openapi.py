@@ -58,8 +58,11 @@ def test_every_request_example_is_answered(client, conforms):
         if not path.startswith("/v1/"):
             continue
         content = ops["post"]["requestBody"]["content"]["application/json"]
-        response = ops["post"]["responses"]["200"]["content"]["application/json"]["schema"]["$ref"].rsplit("/", 1)[1]
+        media = ops["post"]["responses"]["200"]["content"]
         for name, example in content["examples"].items():
             r = client.post(path, json=example["value"])
             assert r.status_code == 200, (path, name, r.get_json())
-            conforms(r.get_json(), response)
+            if "application/json" in media:
+                conforms(r.get_json(), media["application/json"]["schema"]["$ref"].rsplit("/", 1)[1])
+            else:
+                assert r.mimetype in media, (path, r.mimetype)

@@ -121,13 +121,14 @@ class ServiceInfo(Schema):
 
 
 class InputInfo(Schema):
-    form = fields.String(required=True, metadata={"enum": ["values", "summary", "partials", "histogram", "samples"],
-                                                  "description": "the sample's form; samples: several (recommend), n and missing summed"})
+    form = fields.String(required=True, metadata={"enum": ["values", "summary", "partials", "histogram", "samples", "batch"],
+                                                  "description": "the sample's form; samples (recommend) and batch: several, n and missing summed"})
     n = fields.Integer(required=True, metadata={"description": "values analysed (missing ones excluded)"})
     missing = fields.Integer(required=True, metadata={"description": "missing values dropped (raw values only)"})
     label = fields.Raw(required=True, metadata={"type": ["string", "null"], "description": "column name from a text header"})
     shards = fields.Raw(required=True, metadata={"type": ["integer", "null"], "description": "partials: shards merged"})
     bins = fields.Raw(required=True, metadata={"type": ["integer", "null"], "description": "histogram: bins given"})
+    reference = fields.Raw(metadata={"type": "object", "description": "compare: the reference sample's input block"})
 
 
 # Every warning code a response may carry, with what it means (documentation; the

@@ -62,9 +62,11 @@ def _smoothed_counts(values: np.ndarray, bandwidth: float) -> tuple[np.ndarray, 
     step = (hi - lo) / (size - 1)
     # Linear binning ([2], section 2): each value shares its unit weight between the
     # two grid points around it.
+    # The grid reaches 4 bandwidths beyond the data, so every position lies strictly
+    # inside it: no clipping needed.
     position = (values - lo) / step
-    left = np.clip(position.astype(np.int64), 0, size - 2)
-    frac = np.clip(position - left, 0.0, 1.0)
+    left = position.astype(np.int64)
+    frac = position - left
     weights = np.bincount(left, weights=1.0 - frac, minlength=size)
     weights += np.bincount(left + 1, weights=frac, minlength=size)
     half = int(min(size, math.ceil(_REACH * bandwidth / step)))
@@ -140,3 +142,19 @@ def count_peaks(density: np.ndarray, prominence: float) -> int:
     padded = np.concatenate([[0.0], density, [0.0]])
     peaks, _ = signal.find_peaks(padded, prominence=prominence * float(density.max()))
     return max(int(peaks.size), 1)
+
+
+def kde_mode_and_peaks(sorted_values: np.ndarray, bandwidth: float, peak_bandwidth: float, prominence: float) -> tuple[float, int]:
+    """``kde_mode`` and the number of KDE peaks with the given prominence (at
+    ``peak_bandwidth``), sharing one density evaluation in the common case of a single
+    cluster and equal bandwidths."""
+    x = sorted_values
+    bandwidth = _resolvable(x, bandwidth)
+    peak_bandwidth = _resolvable(x, peak_bandwidth)
+    single = not np.any(np.diff(x) > 2.0 * _REACH * bandwidth)
+    if single and peak_bandwidth == bandwidth:
+        grid, smoothed = _smoothed_counts(x, bandwidth)
+        i = int(np.argmax(smoothed))
+        mode = min(max(_refine(grid, smoothed, i), float(x[0])), float(x[-1]))
+        return mode, count_peaks(smoothed, prominence)
+    return kde_mode(x, bandwidth), count_peaks(smoothed_density(x, peak_bandwidth), prominence)

@@ -25,7 +25,7 @@ from dataclasses import dataclass
 import numpy as np
 from scipy import special
 
-from .density import count_peaks, kde_mode, silverman_bandwidth, smoothed_density
+from .density import kde_mode_and_peaks, silverman_bandwidth
 from .thresholds import DEFAULT_KURTOSIS_THRESHOLD, DEFAULT_SKEWNESS_THRESHOLD
 from .forms import Sample
 from .histogram import binned_mode, binned_share, extreme_bin
@@ -251,23 +251,56 @@ def within_sd_shares(profile: Profile) -> WithinSd:
     return WithinSd(*shares)
 
 
-def _mode(profile: Profile) -> float | Unavailable:
+def _mode_and_peaks(profile: Profile) -> tuple[float | Unavailable, int]:
+    """The mode (highest KDE peak) and the number of clear KDE peaks, from one density
+    evaluation where the two bandwidths agree. On rounded data the peak count uses a
+    bandwidth of at least the rounding step, so the grid of values is not read as peaks
+    (a coarse screen with a prominence of 10%; /v1/modality does the real work)."""
     if profile.n < MODE_MIN_N:
-        return Unavailable(f"a density peak of n={profile.n} values says nothing; needs n >= {MODE_MIN_N}")
+        return Unavailable(f"a density peak of n={profile.n} values says nothing; needs n >= {MODE_MIN_N}"), 1
     if profile.sample is not None:
         m, order = profile.moments, profile.order
         bandwidth = silverman_bandwidth(m.sd, order.q3 - order.q1, profile.n)
-        return kde_mode(profile.sample.sorted, bandwidth)
+        unit = rounding_unit(profile.sample)
+        return kde_mode_and_peaks(profile.sample.sorted, bandwidth, max(bandwidth, unit or 0.0), 0.1)
     if profile.histogram is not None:
-        return binned_mode(profile.histogram)
-    return Unavailable(f"needs raw values or a histogram, not {profile.form}")
+        return binned_mode(profile.histogram), 1
+    return Unavailable(f"needs raw values or a histogram, not {profile.form}"), 1
+
+
+def _kth_of_two(a: np.ndarray, b: np.ndarray, k: int) -> float:
+    """The k-th smallest (0-based) of the union of two ascending arrays, by binary search
+    on how many come from ``a`` (O(log n))."""
+    lo, hi = max(0, k + 1 - b.size), min(k + 1, a.size)
+    while lo < hi:
+        i = (lo + hi) // 2  # take i from a, k + 1 - i from b
+        j = k + 1 - i
+        if j > 0 and i < a.size and b[j - 1] > a[i]:
+            lo = i + 1
+        else:
+            hi = i
+    i, j = lo, k + 1 - lo
+    return float(max(a[i - 1] if i > 0 else -np.inf, b[j - 1] if j > 0 else -np.inf))
+
+
+def median_absolute_deviation(sorted_values: np.ndarray, median: float) -> float:
+    """median(|x - median|) from the sorted sample: the deviations below the median,
+    read backwards, and those above it are two ascending runs, so their median is a
+    k-th element of two sorted arrays; no second sort or partition of n values."""
+    split = int(np.searchsorted(sorted_values, median, side="left"))
+    below = median - sorted_values[:split][::-1]
+    above = sorted_values[split:] - median
+    n = sorted_values.size
+    if n % 2:
+        return _kth_of_two(below, above, n // 2)
+    return 0.5 * (_kth_of_two(below, above, n // 2 - 1) + _kth_of_two(below, above, n // 2))
 
 
 def _spread_from_values(profile: Profile) -> tuple[float | Unavailable, float | Unavailable]:
     if profile.sample is None:
         why = Unavailable(f"needs raw values, not {profile.form}")
         return why, why
-    mad = float(np.median(np.abs(profile.sample.values - profile.order.median)))
+    mad = median_absolute_deviation(profile.sample.sorted, profile.order.median)
     return mad, mad * MAD_NORMAL_FACTOR
 
 
@@ -323,7 +356,7 @@ BINNED_MODE_METHOD = (
 def describe(profile: Profile, options: DescribeOptions = DescribeOptions()) -> Description:
     """Describe a sample in any form; what the form cannot give is ``Unavailable``."""
     m = profile.moments
-    mode = _mode(profile)
+    mode, peaks = _mode_and_peaks(profile)
     mad, mad_normal = _spread_from_values(profile)
     lo, hi = _order(profile, "minimum"), _order(profile, "maximum")
     q1, q3, med = _order(profile, "q1"), _order(profile, "q3"), _order(profile, "median")
@@ -336,11 +369,11 @@ def describe(profile: Profile, options: DescribeOptions = DescribeOptions()) -> 
         kurtosis=kurtosis_block(m, options),
         within_sd=within_sd_shares(profile),
         methods=_methods(profile, options),
-        warnings=profile.notices + describe_notices(profile),
+        warnings=profile.notices + describe_notices(profile, peaks),
     )
 
 
-def describe_notices(profile: Profile) -> tuple[Notice, ...]:
+def describe_notices(profile: Profile, peaks: int = 1) -> tuple[Notice, ...]:
     notices = []
     if profile.n < SMALL_N:
         notices.append(Notice(
@@ -350,27 +383,13 @@ def describe_notices(profile: Profile) -> tuple[Notice, ...]:
             + "); read the labels as descriptions of these values, not of the population"
             if profile.n >= 3 else f"n={profile.n}: too few values for any shape statistic",
         ))
-    if profile.sample is not None and profile.n >= MODE_MIN_N:
-        peaks = peak_count(profile)
-        if peaks > 1:
-            notices.append(Notice(
-                "several-peaks",
-                f"the kernel density has {peaks} clear peaks: the mode is the highest, and the mean, sd and "
-                "shape statistics summarise a mixture of groups; see /v1/modality",
-            ))
+    if peaks > 1:
+        notices.append(Notice(
+            "several-peaks",
+            f"the kernel density has {peaks} clear peaks: the mode is the highest, and the mean, sd and "
+            "shape statistics summarise a mixture of groups; see /v1/modality",
+        ))
     return tuple(notices)
-
-
-def peak_count(profile: Profile) -> int:
-    """Peaks of the KDE with a prominence of at least 10% of the highest density (a
-    coarse screen; /v1/modality does the real work). On rounded data the bandwidth is
-    at least the rounding step, so the grid of values is not read as peaks."""
-    m, order = profile.moments, profile.order
-    bandwidth = silverman_bandwidth(m.sd, order.q3 - order.q1, profile.n)
-    unit = rounding_unit(profile.sample)
-    if unit is not None:
-        bandwidth = max(bandwidth, unit)
-    return count_peaks(smoothed_density(profile.sample.sorted, bandwidth), 0.1)
 
 
 def describe_sample(sample: Sample, options: DescribeOptions = DescribeOptions()) -> Description:

@@ -116,7 +116,7 @@ class ModalityOptions:
     alpha: float = 0.05
     max_components: int = 4
     starts: int = 4
-    max_iterations: int = 300
+    max_iterations: int = 100
     seed: int = 0
     time_limit: float = 10.0
 

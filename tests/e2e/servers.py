@@ -19,15 +19,17 @@ def free_port() -> int:
         return s.getsockname()[1]
 
 
-def start_gunicorn(log_path: Path, workers: int = 2, env: dict | None = None) -> tuple[str, subprocess.Popen]:
+def start_gunicorn(log_path: Path, workers: int = 2, env: dict | None = None,
+                   app: str = "service:create_app()") -> tuple[str, subprocess.Popen]:
     """gunicorn with the project's config on a free loopback port, its log in a file
     (a pipe nobody reads would fill and block the access log)."""
     port = free_port()
-    full_env = {**os.environ, "SHAPEGAUGE_BIND": f"127.0.0.1:{port}", "SHAPEGAUGE_WORKERS": str(workers), **(env or {})}
+    full_env = {**os.environ, "SHAPEGAUGE_BIND": f"127.0.0.1:{port}", "SHAPEGAUGE_WORKERS": str(workers),
+                "OPENBLAS_NUM_THREADS": "1", **(env or {})}
     full_env.pop("PROMETHEUS_MULTIPROC_DIR", None)  # each server gets its own
     log = open(log_path, "w+b")
     gunicorn = Path(sys.executable).with_name("gunicorn")
-    proc = subprocess.Popen([str(gunicorn), "-c", str(ROOT / "docker" / "gunicorn.conf.py"), "service:create_app()"],
+    proc = subprocess.Popen([str(gunicorn), "-c", str(ROOT / "docker" / "gunicorn.conf.py"), app],
                             cwd=ROOT, env=full_env, stdout=log, stderr=subprocess.STDOUT)
     proc.log = log
     base = f"http://127.0.0.1:{port}"

@@ -65,6 +65,23 @@ class Standardised:
         self.cdf = special.ndtr(self.z)
 
 
+def _log_tails(std: Standardised) -> tuple[np.ndarray, np.ndarray]:
+    """log F(z) and log(1 - F(z)) for the sorted z, cheaply: from the cdf already known
+    where it keeps precision (log F for z > -30, log1p(-F) for z <= 0), and from the
+    survival function or log_ndtr only where it does not (the far tails)."""
+    z, cdf = std.z, std.cdf
+    log_cdf = np.log(np.maximum(cdf, np.finfo(float).tiny))
+    far_low = z < -30.0
+    if far_low.any():
+        log_cdf[far_low] = special.log_ndtr(z[far_low])
+    upper = z > 0.0  # the sorted z: a tail block
+    log_sf = np.empty_like(z)
+    log_sf[~upper] = np.log1p(-cdf[~upper])
+    if upper.any():
+        log_sf[upper] = special.log_ndtr(-z[upper])
+    return log_cdf, log_sf
+
+
 def _ad_p_value(a_star: float) -> float:
     # [2], Table 4.9, case 3 (mean and variance unknown).
     if a_star < 0.2:
@@ -92,8 +109,7 @@ def anderson_darling(std: Standardised, alpha: float) -> TestResult:
     if n < EDF_MIN_N:
         return not_applicable(ANDERSON_DARLING, f"requires at least {EDF_MIN_N} observations; only n={n} were given")
     i = np.arange(1, n + 1)
-    log_cdf = special.log_ndtr(std.z)
-    log_sf = special.log_ndtr(-std.z)
+    log_cdf, log_sf = _log_tails(std)
     # A^2 = -n - (1/n) sum (2i-1) [ln F(z_i) + ln(1 - F(z_{n+1-i}))]   [1], eq. (4)
     a2 = -n - float(np.dot(2 * i - 1, log_cdf + log_sf[::-1])) / n
     a_star = a2 * (1.0 + 0.75 / n + 2.25 / n**2)

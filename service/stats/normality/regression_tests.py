@@ -61,9 +61,17 @@ def shapiro_wilk(sorted_values: np.ndarray, alpha: float) -> TestResult:
 
 
 def blom_scores(n: int) -> np.ndarray:
-    """Approximate expected normal order statistics Phi^{-1}((i - 3/8)/(n + 1/4)) ([5])."""
-    i = np.arange(1, n + 1)
-    return special.ndtri((i - 0.375) / (n + 0.25))
+    """Approximate expected normal order statistics Phi^{-1}((i - 3/8)/(n + 1/4)) ([5]),
+    computed for the lower half and mirrored (the scores are antisymmetric)."""
+    half = (n + 1) // 2
+    i = np.arange(1, half + 1)
+    low = special.ndtri((i - 0.375) / (n + 0.25))
+    scores = np.empty(n)
+    scores[:half] = low
+    scores[n - half:] = -low[::-1]
+    if n % 2:
+        scores[half - 1] = 0.0
+    return scores
 
 
 def shapiro_francia(sorted_values: np.ndarray, alpha: float, moments: Moments | None = None) -> TestResult:

@@ -11,7 +11,7 @@ from ..stats import diagnose as diagnosing
 from ..stats import modality as peaks
 from ..stats.errors import DataError
 from ..stats.results import Unavailable
-from .analysis import _alpha, describe_options, modality_options, normality_options, tail_questions
+from .analysis import _alpha, describe_options, modality_options, normality_options, tail_questions, transform_hint
 from .errors import Problem, from_data_error
 from .intake import load_json_body, load_options, read_sample_request, limits
 from .output import document, respond, to_document
@@ -56,6 +56,8 @@ def batch():
         describe=describe_options(o), normality=normality_options(o), modality=modality_options(o),
         tails=tail_questions(o["tails"]) if o.get("tails") else None,
         goal=o.get("goal"),
+        lower_limit=(o.get("tails") or {}).get("lower_limit"),
+        upper_limit=(o.get("tails") or {}).get("upper_limit"),
     )
     keep = o.get("fields_")
     results, n, missing = {}, 0, 0
@@ -67,16 +69,20 @@ def batch():
             raw = load_options(SampleObject(), raw, prefix=f"/samples/{name}")
             built = build_sample(raw, limits(), quantile_definition=o.get("quantile_definition", "hf7"),
                                  prefix=f"/samples/{name}", minimum_n=3)
-            body = document(built.input, diagnosing.diagnose(built.profile, options))
+            hint = transform_hint(built.profile, options.normality) if options.goal else None
+            body = document(built.input, diagnosing.diagnose(built.profile, options, hint))
             for part in ("describe", "normality", "modality", "tails", "recommend"):
                 if isinstance(body.get(part), dict):
                     body[part].pop("warnings", None)
             for key in ("service", "caution"):
                 body.pop(key)
+            # fields is part of the request: an unknown key fails the whole batch (422).
             results[name] = {"ok": True, "result": _trim(body, keep) if keep else body}
             n += built.input.n
             missing += built.input.missing
         except Problem as problem:
+            if problem.errors and problem.errors[0].get("pointer") == "/fields":
+                raise
             results[name] = {"ok": False, "problem": problem.document()}
         except DataError as exc:
             results[name] = {"ok": False, "problem": from_data_error(exc).document()}
@@ -110,8 +116,7 @@ def compare():
                           errors=[{"pointer": "/sample/histogram/edges", "detail": "differs from the reference's"}])
     g.sample_n = sample.input.n
     result = comparing.compare(sample.profile, reference.profile, _alpha(o))
-    info = InputInfo(sample.input.form, sample.input.n, sample.input.missing)
-    doc = document(info, result)
+    doc = document(sample.input, result)
     doc["input"]["reference"] = to_document(reference.input)
     return respond(doc)
 

@@ -12,7 +12,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from ..stats.errors import TooFewValues
+from ..stats.errors import DataError, TooFewValues
 from ..stats.forms import Sample, require_spread
 from ..stats.histogram import check_histogram
 from ..stats.partials import Partial
@@ -84,7 +84,17 @@ def _require_n(profile: Profile, minimum_n: int) -> None:
 
 
 def build_sample(data: dict, limits: Limits, *, quantile_definition: str = "hf7", prefix: str = "", minimum_n: int = 2) -> SampleInput:
-    """Turn one loaded sample object into a ``Profile`` and its ``input`` block."""
+    """Turn one loaded sample object into a ``Profile`` and its ``input`` block; a fault
+    the statistics layer finds points into the request under ``prefix``."""
+    try:
+        return _build(data, limits, quantile_definition, prefix, minimum_n)
+    except DataError as exc:
+        if prefix and exc.pointer is not None and not exc.pointer.startswith(prefix):
+            exc.pointer = prefix + exc.pointer
+        raise
+
+
+def _build(data: dict, limits: Limits, quantile_definition: str, prefix: str, minimum_n: int) -> SampleInput:
     form = form_of(data)
     if form == "values":
         parsed = parse_json_values(data["values"], pointer=f"{prefix}/values", max_values=limits.max_values,

@@ -10,10 +10,12 @@ and the PSI; the raw-value tests are then ``applicable: false``.
 The drift verdict: ``stable`` when the primary test of equal distributions (Anderson-
 Darling, the most sensitive of the three to shape and tails) does not reject;
 otherwise ``shifted`` when the location test rejects, ``rescaled`` when the spread test
-rejects, and ``reshaped`` when only the shape changed. ``material`` says whether the
-change is large enough to act on (mean shift of at least 0.2 reference sd, Cohen's
-"small"; sd ratio outside 0.8-1.25; PSI of at least 0.1), so that a monitoring job at a
-large n need not alert on trivial differences.
+rejects and the sd itself moved by more than 5%, and ``reshaped`` otherwise (only the
+shape changed). ``material`` says whether the change is large enough to act on (mean
+shift of at least 0.2 reference sd, Cohen's "small"; sd ratio outside 0.8-1.25; a
+significant skewness or kurtosis change of at least the shape thresholds; PSI of at least
+0.1 and above its noise level), so that a monitoring job at a large n need not alert on
+trivial differences.
 
 References
 ----------
@@ -41,6 +43,7 @@ import numpy as np
 from scipy import stats
 
 from .moments import se_kurtosis, se_skewness
+from .thresholds import DEFAULT_KURTOSIS_THRESHOLD, DEFAULT_SKEWNESS_THRESHOLD
 from .normality.result import TestResult, not_applicable, outcome
 from .profile import Profile
 from .pvalues import two_sided_normal
@@ -63,6 +66,7 @@ CHI_HOMOGENEITY = Method("chi-square test of homogeneity of two histograms on th
 PSI_BANDS = (0.1, 0.25)  # [5], common practice: below 0.1 stable, 0.1-0.25 some shift, above 0.25 major
 SHIFT_MATERIAL = 0.2  # [6]
 RATIO_MATERIAL = (0.8, 1.25)  # common practice
+SD_SAME = (0.95, 1.0 / 0.95)  # common practice: sds within 5% are the same spread for the label
 _PSI_FLOOR = 1e-4  # share given to an empty bin so that log(0) never appears (common practice)
 
 
@@ -146,17 +150,29 @@ def _psi_values(x: np.ndarray, ref_sorted: np.ndarray) -> Stability:
 
 
 def _psi_counts(a: np.ndarray, r: np.ndarray, method: str) -> Stability:
-    pa = np.maximum(a / a.sum(), _PSI_FLOOR)
-    pr = np.maximum(r / r.sum(), _PSI_FLOOR)
-    psi = float(np.sum((pa - pr) * np.log(pa / pr)))
+    psi = float(_psi(a, r))
     band = "stable" if psi < PSI_BANDS[0] else "moderate_shift" if psi < PSI_BANDS[1] else "major_shift"
-    # Two samples of one distribution give PSI ~ (1/n1 + 1/n2) chi2(k - 1) (PSI is a
-    # symmetrised chi-square divergence, to second order): its 95% point is the noise a
-    # PSI must clear before its band means anything.
-    k = int((a + r > 0).sum())
-    noise = (1.0 / a.sum() + 1.0 / r.sum()) * float(stats.chi2.ppf(0.95, max(k - 1, 1)))
+    noise = psi_noise(a, r)
     return Stability(psi, band, int(a.size), noise, method + f"; bands {PSI_BANDS[0]} and {PSI_BANDS[1]} (common practice); "
-                     "noise_level is the 95% point of PSI between two samples of one distribution of these sizes")
+                     "noise_level is the 95% point of PSI between two samples of one distribution of these sizes (seeded simulation)")
+
+
+def _psi(a: np.ndarray, r: np.ndarray) -> np.ndarray:
+    pa = np.maximum(a / a.sum(axis=-1, keepdims=True), _PSI_FLOOR)
+    pr = np.maximum(r / r.sum(axis=-1, keepdims=True), _PSI_FLOOR)
+    return np.sum((pa - pr) * np.log(pa / pr), axis=-1)
+
+
+def psi_noise(a: np.ndarray, r: np.ndarray, draws: int = 2000) -> float:
+    """The 95% point of PSI between two samples of these sizes drawn from one
+    distribution (the pooled bin shares): the noise a PSI must clear before its band
+    means anything. By seeded simulation, since at a few values per bin the chi-square
+    approximation (PSI ~ (1/n1 + 1/n2) chi2(k-1)) is far too optimistic."""
+    pooled = (a + r) / (a.sum() + r.sum())
+    rng = np.random.default_rng(20261202)
+    sa = rng.multinomial(int(a.sum()), pooled, size=draws)
+    sr = rng.multinomial(int(r.sum()), pooled, size=draws)
+    return float(np.quantile(_psi(sa, sr), 0.95))
 
 
 def _ad(x: np.ndarray, y: np.ndarray, alpha: float) -> TestResult:
@@ -165,8 +181,10 @@ def _ad(x: np.ndarray, y: np.ndarray, alpha: float) -> TestResult:
         res = stats.anderson_ksamp([x, y], variant="midrank")
     bound = None
     text = " ".join(str(w.message) for w in caught)
-    if "capped" in text:
-        bound = "<" if res.pvalue <= 0.001 + 1e-12 else ">"
+    if "floored" in text:  # scipy: the true p-value is below the table's 0.001
+        bound = "<"
+    elif "capped" in text:  # above the table's 0.25
+        bound = ">"
     return outcome(AD, res.statistic, res.pvalue, alpha, bound=bound)
 
 
@@ -212,11 +230,15 @@ def _histogram_tests(profile: Profile, reference: Profile, alpha: float) -> tupl
     return tests, _psi_counts(a, r, "population stability index on the shared bins")
 
 
-def _effects(profile: Profile, reference: Profile, stability: Stability) -> Effects:
+def _effects(profile: Profile, reference: Profile, stability: Stability, skew: ShapeChange, kurt: ShapeChange,
+             alpha: float) -> Effects:
     m, r = profile.moments, reference.moments
     shift = (m.mean - r.mean) / r.sd
     ratio = m.sd / r.sd
     reasons = []
+    for name, change, threshold in (("skewness", skew, DEFAULT_SKEWNESS_THRESHOLD), ("excess kurtosis", kurt, DEFAULT_KURTOSIS_THRESHOLD)):
+        if isinstance(change.difference, float) and abs(change.difference) >= threshold and change.p_value < alpha:
+            reasons.append(f"the {name} changed by {change.difference:+.2f} (material from {threshold:g}, the shape threshold)")
     if abs(shift) >= SHIFT_MATERIAL:
         reasons.append(f"the mean moved {shift:+.2f} reference sd (material from {SHIFT_MATERIAL}, Cohen's small effect)")
     if not RATIO_MATERIAL[0] < ratio < RATIO_MATERIAL[1]:
@@ -246,7 +268,11 @@ def _verdict(tests: CompareTests, effects: Effects, skew: ShapeChange, kurt: Sha
         if effects.material:
             summary += " The effect sizes are large, though: " + "; ".join(effects.reasons) + "."
     else:
-        label = "shifted" if tests.location.reject else "rescaled" if tests.scale.reject else "reshaped"
+        # The spread test compares mean absolute deviations about the median, which a
+        # change of shape alone also moves: "rescaled" needs the sd itself to change.
+        sd_changed = not SD_SAME[0] < effects.sd_ratio < SD_SAME[1]
+        label = ("shifted" if tests.location.reject else "rescaled" if tests.scale.reject and sd_changed
+                 else "reshaped")
         what = {"shifted": "its location moved", "rescaled": "its spread changed",
                 "reshaped": "its shape changed while location and spread held"}[label]
         size = "; ".join(effects.reasons) if effects.material else "the change is small in size (not material)"
@@ -264,5 +290,5 @@ def compare(profile: Profile, reference: Profile, alpha: float = 0.05) -> Compar
     m, r = profile.moments, reference.moments
     skew = _shape_change(m.skewness("G1"), r.skewness("G1"), m.n, r.n, se_skewness)
     kurt = _shape_change(m.excess_kurtosis("G2"), r.excess_kurtosis("G2"), m.n, r.n, se_kurtosis)
-    effects = _effects(profile, reference, stability)
+    effects = _effects(profile, reference, stability, skew, kurt, alpha)
     return Comparison(tests, skew, kurt, stability, effects, _verdict(tests, effects, skew, kurt, alpha), tuple(notices))

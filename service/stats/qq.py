@@ -3,8 +3,8 @@ and a simultaneous confidence band.
 
 The band inverts the Lilliefors test: with estimated mean and sd, every point of the
 empirical distribution function lies within D_crit of the fitted normal's cdf with
-probability 1 - alpha when the data are normal, so the band is the set of sample
-quantiles mean + sd * Phi^{-1}(p_i -+ D_crit). D_crit is found by inverting the
+probability 1 - alpha when the data are normal, so the band for the i-th order statistic is
+mean + sd * Phi^{-1}(i/n - D_crit) to mean + sd * Phi^{-1}((i-1)/n + D_crit). D_crit is found by inverting the
 Dallal-Wilkinson approximation of Lilliefors' distribution (valid for alpha <= 0.1).
 
 References
@@ -52,9 +52,13 @@ def qq(sample: Sample, alpha: float = 0.05) -> QQ:
     s = sample.sorted
     n = s.size
     m = central_moments(s)
-    p = (np.arange(1, n + 1) - 0.375) / (n + 0.25)  # [3]
+    i = np.arange(1, n + 1)
+    p = (i - 0.375) / (n + 0.25)  # [3]
     d = lilliefors_critical(max(n, 5), min(alpha, 0.1))
+    # The test accepts when the fitted cdf at x_(i) lies in [i/n - D, (i-1)/n + D] for
+    # every i (the EDF steps), so those are the band's ends on the probability scale.
+    low_p, high_p = i / n - d, (i - 1) / n + d
     with np.errstate(invalid="ignore", divide="ignore"):
-        lo = np.where(p - d > 0, m.mean + m.sd * special.ndtri(np.clip(p - d, 1e-300, 1)), np.nan)
-        hi = np.where(p + d < 1, m.mean + m.sd * special.ndtri(np.clip(p + d, 0, 1 - 1e-16)), np.nan)
+        lo = np.where(low_p > 0, m.mean + m.sd * special.ndtri(np.clip(low_p, 1e-300, 1)), np.nan)
+        hi = np.where(high_p < 1, m.mean + m.sd * special.ndtri(np.clip(high_p, 0, 1 - 1e-16)), np.nan)
     return QQ(special.ndtri(p), s, m.mean, m.sd, lo, hi, 1 - min(alpha, 0.1), d, BAND_METHOD)

@@ -33,7 +33,7 @@ import numpy as np
 from scipy import optimize
 
 from .mixture import Candidate, Component, MixtureFit, MixtureOptions, fit_mixtures, weighted_from_bins, weighted_from_sorted
-from .normality.result import decide
+from .normality.result import TestResult, decide
 from .profile import Profile, rounding_unit
 from .results import Method, Notice, Unavailable
 
@@ -76,15 +76,8 @@ class Mixture:
     fitted_on: str
 
 
-@dataclass(frozen=True)
-class Dip:
-    statistic: float | None
-    p_value: float | None
-    p_value_bound: str | None
-    applicable: bool
-    reject: bool | None
-    reason: str | None
-    method: Method
+# The dip test's result has the shape of every other test's.
+Dip = TestResult
 
 
 @dataclass(frozen=True)

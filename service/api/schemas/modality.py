@@ -4,8 +4,9 @@ from __future__ import annotations
 
 from marshmallow import Schema, fields, validate
 
-from .common import Envelope, MethodRef, Number, Whole, maybe, nullable, number
+from .common import Envelope, Number, Whole, maybe, nullable, number
 from .forms import SampleObject
+from .normality import TestOutcome
 
 
 class ModalityOptions(Schema):
@@ -66,16 +67,6 @@ class MixtureOut(Schema):
     fitted_on = fields.String(required=True, metadata={"description": "what the EM ran on"})
 
 
-class DipOut(Schema):
-    statistic = nullable("number", "the dip")
-    p_value = nullable("number", "p-value, or its bound when p_value_bound is set")
-    p_value_bound = fields.Raw(required=True, metadata={"enum": ["<", ">", None]})
-    applicable = fields.Boolean(required=True)
-    reject = nullable("boolean", "rejects unimodality at alpha; not rejecting is no evidence of multimodality, not proof of one peak")
-    reason = nullable("string", "why it does not apply, or what was done to the data first")
-    method = fields.Nested(MethodRef, required=True)
-
-
 class BimodalityCoefficientOut(Schema):
     value = maybe("number", "(G1^2 + 1) / (G2 + 3(n-1)^2 / ((n-2)(n-3)))")
     threshold = number("5/9, the value of a uniform distribution")
@@ -91,7 +82,8 @@ class ModalityVerdictOut(Schema):
 
 class ModalityBody(Schema):
     mixture = fields.Raw(required=True, metadata={"oneOf": [{"$ref": "#/components/schemas/MixtureOut"}, {"$ref": "#/components/schemas/Unavailable"}]})
-    dip = fields.Nested(DipOut, required=True)
+    dip = fields.Nested(TestOutcome, required=True, metadata={
+        "description": "Hartigan's dip test; not rejecting is no evidence of multimodality, not proof of one peak"})
     bimodality_coefficient = fields.Nested(BimodalityCoefficientOut, required=True)
     verdict = fields.Nested(ModalityVerdictOut, required=True)
 

@@ -4,8 +4,9 @@ from __future__ import annotations
 
 from marshmallow import Schema, ValidationError, fields, validate, validates_schema
 
-from .common import Envelope, MethodRef, Number, maybe, nullable, number
+from .common import Envelope, Number, maybe, nullable, number
 from .forms import SampleObject
+from .normality import TestOutcome
 from .results import DiagnoseOptions
 
 
@@ -52,23 +53,13 @@ class CompareRequest(CompareOptions):
     reference = fields.Nested(SampleObject, required=True, metadata={"description": "the reference period"})
 
 
-class CompareTestOut(Schema):
-    statistic = nullable("number", "the test statistic")
-    p_value = nullable("number", "p-value, or its bound")
-    p_value_bound = fields.Raw(required=True, metadata={"enum": ["<", ">", None]})
-    applicable = fields.Boolean(required=True)
-    reject = nullable("boolean", "p_value < alpha")
-    reason = nullable("string", "why it does not apply, or what limits it")
-    method = fields.Nested(MethodRef, required=True)
-
-
 class CompareTestsOut(Schema):
-    kolmogorov_smirnov = fields.Nested(CompareTestOut, required=True)
-    anderson_darling = fields.Nested(CompareTestOut, required=True)
-    cramer_von_mises = fields.Nested(CompareTestOut, required=True)
-    chi_square = fields.Nested(CompareTestOut, required=True)
-    location = fields.Nested(CompareTestOut, required=True)
-    scale = fields.Nested(CompareTestOut, required=True)
+    kolmogorov_smirnov = fields.Nested(TestOutcome, required=True)
+    anderson_darling = fields.Nested(TestOutcome, required=True)
+    cramer_von_mises = fields.Nested(TestOutcome, required=True)
+    chi_square = fields.Nested(TestOutcome, required=True)
+    location = fields.Nested(TestOutcome, required=True)
+    scale = fields.Nested(TestOutcome, required=True)
 
 
 class ShapeChangeOut(Schema):

@@ -5,7 +5,7 @@ HOST   ?= 127.0.0.1
 PORT   ?= 8080
 BIN    := $(VENV)/bin
 
-.PHONY: serve test openapi bench clean
+.PHONY: serve test openapi bench requirements clean
 
 $(BIN)/python:
 	$(PYTHON) -m venv $(VENV)
@@ -29,6 +29,20 @@ test: $(VENV)/.test-installed
 
 openapi: $(VENV)/.test-installed
 	$(BIN)/python -m service.api.openapi openapi/openapi.yaml
+
+bench: $(VENV)/.test-installed
+	OPENBLAS_NUM_THREADS=1 $(BIN)/python tests/benchmarks/bench_http.py
+	OPENBLAS_NUM_THREADS=1 $(BIN)/python tests/benchmarks/bench_load.py 20 4000
+	OPENBLAS_NUM_THREADS=1 $(BIN)/python tests/benchmarks/bench_mixture.py 100000 3
+
+# The container's pins: a throwaway venv with the runtime dependencies only, frozen.
+requirements:
+	rm -rf build/reqvenv
+	$(PYTHON) -m venv build/reqvenv
+	build/reqvenv/bin/pip install --quiet .
+	{ echo "# Pinned runtime requirements of the container image (regenerate: make requirements)."; \
+	  build/reqvenv/bin/pip freeze --exclude shapegauge; } > docker/requirements.txt
+	rm -rf build/reqvenv
 
 clean:
 	rm -rf $(VENV) .pytest_cache .hypothesis build *.egg-info

@@ -84,3 +84,33 @@ def test_dockerfile_passes_hadolint():
     done = subprocess.run([hadolint, "--config", str(ROOT / "docker" / "hadolint.yaml"), str(ROOT / "docker" / "Dockerfile")],
                           capture_output=True, text=True, timeout=60)
     assert done.returncode == 0, done.stdout + done.stderr
+
+
+def test_image_pins_cover_every_runtime_dependency():
+    """docker/requirements.txt (from `make requirements`) pins every distribution that
+    shapegauge needs at run time, transitively, at a version its requirers accept. The
+    container test catches a miss too, but only where podman runs; this check runs anywhere."""
+    from importlib.metadata import distribution
+
+    from packaging.requirements import Requirement
+    from packaging.utils import canonicalize_name
+
+    pins = {}
+    for line in (ROOT / "docker" / "requirements.txt").read_text().splitlines():
+        if line and not line.startswith("#"):
+            name, version = line.split("==")
+            pins[canonicalize_name(name)] = version
+    unmet, seen, todo = [], set(), ["shapegauge"]
+    while todo:
+        name = todo.pop()
+        for spec in distribution(name).requires or []:
+            req = Requirement(spec)
+            if req.marker is not None and not req.marker.evaluate({"extra": ""}):
+                continue  # an extra (tests, docs) or a platform the image is not
+            key = canonicalize_name(req.name)
+            if key not in pins or not req.specifier.contains(pins[key], prereleases=True):
+                unmet.append(f"{name} needs {spec}, pinned {pins.get(key)}")
+            elif key not in seen:
+                seen.add(key)
+                todo.append(req.name)
+    assert not unmet, unmet

@@ -25,7 +25,7 @@ import numpy as np
 import orjson
 
 sys.path.insert(0, str(Path(__file__).resolve().parents[2]))
-from tests.e2e.servers import start_gunicorn, stop  # noqa: E402
+from tests.e2e.servers import start_gunicorn, stop, worker_status  # noqa: E402
 
 RESULTS = Path(__file__).resolve().parent / "results"
 ENDPOINTS = ("describe", "normality", "modality", "diagnose")
@@ -45,15 +45,6 @@ def post(port: int, path: str, body: bytes) -> float:
     if response.status != 200:
         raise RuntimeError(f"{path} answered {response.status}")
     return elapsed
-
-
-def worker_peak_rss(master: int) -> list[int]:
-    peaks = []
-    for pid in Path(f"/proc/{master}/task/{master}/children").read_text().split():
-        for line in Path(f"/proc/{pid}/status").read_text().splitlines():
-            if line.startswith("VmHWM:"):
-                peaks.append(int(line.split()[1]) * 1024)
-    return peaks
 
 
 def main(quick: bool = False) -> dict:
@@ -84,7 +75,7 @@ def main(quick: bool = False) -> dict:
                 rows.append({"n": n, "endpoint": endpoint, "ours_ms": 1e3 * statistics.median(a),
                              "straightforward_ms": 1e3 * statistics.median(b), "floor_ms": 1e3 * statistics.median(floor)})
                 print(json.dumps(rows[-1]), flush=True)
-        rss = worker_peak_rss(ours.pid)
+        rss = list(worker_status(ours.pid, "VmHWM").values())
     finally:
         stop(ours)
         stop(ref)

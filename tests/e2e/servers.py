@@ -56,3 +56,15 @@ def stop(proc: subprocess.Popen) -> None:
         except subprocess.TimeoutExpired:
             proc.kill()
             proc.wait(10)
+
+
+def worker_status(master: int, field: str) -> dict[int, int]:
+    """A ``/proc/<pid>/status`` memory field (``VmRSS``, ``VmHWM``) in bytes for each of
+    gunicorn's workers."""
+    children = Path(f"/proc/{master}/task/{master}/children").read_text().split()
+    out = {}
+    for pid in map(int, children):
+        for line in Path(f"/proc/{pid}/status").read_text().splitlines():
+            if line.startswith(field + ":"):
+                out[pid] = int(line.split()[1]) * 1024
+    return out

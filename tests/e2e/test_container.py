@@ -18,7 +18,6 @@ import os
 import re
 import resource
 import shutil
-import socket
 import subprocess
 import time
 import urllib.request
@@ -26,7 +25,8 @@ from pathlib import Path
 
 import pytest
 
-ROOT = Path(__file__).resolve().parents[2]
+from .servers import ROOT, free_port
+
 CACHE = Path(os.environ.get("XDG_CACHE_HOME", Path.home() / ".cache")) / "shapegauge"
 BASE_TAR = CACHE / "base-bookworm.tar"
 CA_BUNDLE = Path("/etc/ssl/certs/ca-certificates.crt")
@@ -65,12 +65,6 @@ def _debian_mirror() -> str:
             if "security" not in uri and "debian" in uri:
                 return uri
     raise RuntimeError("no Debian mirror in apt's sources")
-
-
-def _free_port() -> int:
-    with socket.socket() as s:
-        s.bind(("127.0.0.1", 0))
-        return s.getsockname()[1]
 
 
 @pytest.fixture(scope="module")
@@ -113,8 +107,10 @@ def image(podman):
         done = _run(["debootstrap", "--variant=minbase", "--include=python3,python3-venv,ca-certificates",
                      "bookworm", str(rootfs), _debian_mirror()], timeout=1200)
         assert done.returncode == 0, done.stderr[-3000:]
-        done = _run(["tar", "-C", str(rootfs), "-cf", str(BASE_TAR), "."], timeout=600)
+        partial = BASE_TAR.with_suffix(".partial")  # renamed once whole: a cut run leaves no broken cache
+        done = _run(["tar", "-C", str(rootfs), "-cf", str(partial), "."], timeout=600)
         assert done.returncode == 0, done.stderr
+        os.replace(partial, BASE_TAR)
         shutil.rmtree(rootfs, ignore_errors=True)
     podman("import", str(BASE_TAR), "localhost/shapegauge-base:bookworm")
     podman(
@@ -134,7 +130,7 @@ def _get(url: str, body: bytes | None = None):
 
 
 def test_image_runs_diagnoses_and_stops_cleanly(podman, image):
-    port = _free_port()
+    port = free_port()
     started = podman("run", "-d", "--name", "shapegauge-test", "-p", f"127.0.0.1:{port}:8080",
                      "--read-only", "--tmpfs", "/tmp", image, check=False)
     if started.returncode != 0 and "permission" in started.stderr.lower():

@@ -3,26 +3,17 @@
 from __future__ import annotations
 
 import json
-import os
 import signal
-import socket
 import subprocess
 import sys
-import time
 import urllib.error
 import urllib.request
 from pathlib import Path
 
 import pytest
 
-ROOT = Path(__file__).resolve().parents[2]
+from .servers import ROOT, start_gunicorn, worker_status
 pytestmark = pytest.mark.e2e
-
-
-def _free_port() -> int:
-    with socket.socket() as s:
-        s.bind(("127.0.0.1", 0))
-        return s.getsockname()[1]
 
 
 def _request(url: str, body: bytes | None = None, content_type: str = "application/json"):
@@ -36,30 +27,10 @@ def _request(url: str, body: bytes | None = None, content_type: str = "applicati
 
 @pytest.fixture(scope="module")
 def server(tmp_path_factory):
-    port = _free_port()
-    # The log goes to a file, not a pipe: nobody reads a pipe while the tests run, and a
-    # full pipe would block gunicorn's access log (and every worker with it).
-    log = open(tmp_path_factory.mktemp("gunicorn") / "server.log", "w+b")
-    env = {**os.environ, "SHAPEGAUGE_BIND": f"127.0.0.1:{port}", "SHAPEGAUGE_WORKERS": "2"}
-    gunicorn = Path(sys.executable).with_name("gunicorn")
-    proc = subprocess.Popen(
-        [str(gunicorn), "-c", str(ROOT / "docker" / "gunicorn.conf.py"), "service:create_app()"],
-        cwd=ROOT, env=env, stdout=log, stderr=subprocess.STDOUT,
-    )
-    proc.log = log
-    base = f"http://127.0.0.1:{port}"
-    deadline = time.monotonic() + 30
-    while True:
-        try:
-            if _request(base + "/healthz")[0] == 200:
-                break
-        except OSError:
-            pass
-        if proc.poll() is not None or time.monotonic() > deadline:
-            proc.kill()
-            log.seek(0)
-            pytest.fail("gunicorn did not start:\n" + log.read().decode(errors="replace"))
-        time.sleep(0.2)
+    try:
+        base, proc = start_gunicorn(tmp_path_factory.mktemp("gunicorn") / "server.log")
+    except RuntimeError as e:
+        pytest.fail(str(e))
     yield base, proc
     if proc.poll() is None:
         proc.kill()
@@ -117,16 +88,6 @@ def test_metrics_add_up_across_workers(server):
     assert _metric(base, "shapegauge_requests_total", labels) - before == 30
 
 
-def _worker_rss(master: int) -> dict[int, int]:
-    children = Path(f"/proc/{master}/task/{master}/children").read_text().split()
-    rss = {}
-    for pid in map(int, children):
-        for line in Path(f"/proc/{pid}/status").read_text().splitlines():
-            if line.startswith("VmRSS:"):
-                rss[pid] = int(line.split()[1]) * 1024
-    return rss
-
-
 def test_bounded_load_smoke(server):
     """A short loopback load (clients = 2 x workers, at most 300 requests or 8 s): no
     failed request, and no worker's memory grows by more than 50 MB. The full load test
@@ -137,9 +98,9 @@ def test_bounded_load_smoke(server):
     port = int(base.rsplit(":", 1)[1])
     body = (ROOT / "service" / "api" / "examples" / "demo.json").read_bytes()
     run_load(port, "/v1/diagnose", body, clients=4, max_requests=40, max_seconds=5)  # warm up
-    before = _worker_rss(proc.pid)
+    before = worker_status(proc.pid, "VmRSS")
     result = run_load(port, "/v1/diagnose", body, clients=4, max_requests=300, max_seconds=8)
-    after = _worker_rss(proc.pid)
+    after = worker_status(proc.pid, "VmRSS")
     print("load smoke:", result.line())
     assert result.failures == 0 and result.requests > 0
     for pid, rss in after.items():
@@ -147,7 +108,11 @@ def test_bounded_load_smoke(server):
 
 
 def test_sigterm_stops_cleanly(server):
-    _, proc = server
+    """Runs last (it stops the server); it posts its own diagnosis, so it does not lean on
+    the tests before it."""
+    base, proc = server
+    body = (ROOT / "service" / "api" / "examples" / "demo.json").read_bytes()
+    assert _request(base + "/v1/diagnose", body)[0] == 200
     proc.send_signal(signal.SIGTERM)
     assert proc.wait(30) == 0
     proc.log.seek(0)

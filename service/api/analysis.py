@@ -17,10 +17,9 @@ from ..stats import transforms
 from ..stats.forms import Sample, require_spread
 from ..stats.profile import profile_of_sample
 from .errors import Problem
-from .intake import load_json_body, load_options, read_sample_request
-from .output import document, respond, to_document
+from .intake import limits, load_json_body, load_options, read_sample_request
+from .output import document, respond
 from .sample_input import InputInfo, build_sample
-from .intake import limits
 from .schemas.describe import DescribeOptions, DescribeRequest
 from .schemas.modality import ModalityOptions, ModalityRequest
 from .schemas.normality import NormalityOptions, NormalityRequest
@@ -28,10 +27,9 @@ from .schemas.results import (DiagnoseOptions, DiagnoseRequest, RecommendRequest
                               TransformOptions, TransformRequest)
 
 bp = Blueprint("analysis", __name__, url_prefix="/v1")
-TRANSFORM_MIN_N = 20
 
 
-def _alpha(o: dict) -> float:
+def alpha_of(o: dict) -> float:
     return o["alpha"] if o.get("alpha") is not None else current_app.config["DEFAULT_ALPHA"]
 
 
@@ -45,7 +43,7 @@ def describe_options(o: dict) -> describing.DescribeOptions:
 
 def normality_options(o: dict) -> testing.NormalityOptions:
     return testing.NormalityOptions(
-        alpha=_alpha(o),
+        alpha=alpha_of(o),
         primary_test=o.get("primary_test"),
         adequate_n=o.get("adequate_n"),
         skewness_threshold=o["skewness_threshold"],
@@ -56,7 +54,7 @@ def normality_options(o: dict) -> testing.NormalityOptions:
 def modality_options(o: dict) -> peaks.ModalityOptions:
     cfg = current_app.config
     return peaks.ModalityOptions(
-        alpha=_alpha(o),
+        alpha=alpha_of(o),
         max_components=o.get("max_components", 4),
         seed=o.get("seed", 0),
         starts=cfg["FIT_STARTS"],
@@ -94,7 +92,9 @@ def modality():
     return respond(document(req.input, peaks.modality(req.profile, modality_options(req.options))))
 
 
-def _mixture_for_tails(profile, o: dict):
+def mixture_components(profile, o: dict):
+    """The components of the mixture /v1/modality would choose, for the tails and the
+    histogram picture; ``None`` where no mixture can be fitted."""
     fit = peaks.fit_profile(profile, peaks.untied(profile, o.get("seed", 0))[0], modality_options(o))
     return None if isinstance(fit, peaks.Unavailable) else fit[0].components
 
@@ -103,7 +103,7 @@ def _mixture_for_tails(profile, o: dict):
 def tails():
     req = read_sample_request(TailsRequest, TailsOptions, minimum_n=2)
     o = req.options
-    report = tailing.tails(req.profile, mixture=_mixture_for_tails(req.profile, o),
+    report = tailing.tails(req.profile, mixture=mixture_components(req.profile, o),
                            quantile_definition=o["quantile_definition"], **tail_questions(o))
     return respond(document(req.input, report))
 
@@ -115,24 +115,8 @@ def transform():
         raise Problem("invalid-request", f"a transformation needs the raw values; a {req.profile.form} cannot be transformed",
                       errors=[{"pointer": f"/{req.profile.form}", "detail": "send values"}])
     o = req.options
-    report = transforms.transform(req.profile.sample, normality_options(o), confidence=o["confidence"])
+    report = transforms.transform(req.profile.sample, normality_options(o), confidence=o["confidence"], profile=req.profile)
     return respond(document(req.input, report))
-
-
-def transform_hint(profile, options: testing.NormalityOptions) -> dict | None:
-    """The Box-Cox (or, for data not all positive, Yeo-Johnson) fit for a recommendation,
-    offered only when it makes the data closer to normal."""
-    if profile.sample is None or profile.n < TRANSFORM_MIN_N:
-        return None  # too few values to tell whether a transformation helps
-    report = transforms.transform(profile.sample, options)
-    fit = report.box_cox if report.box_cox.applicable else report.yeo_johnson
-    if fit.after is None or fit.lambda_ is None:
-        return None
-    before = report.before
-    if fit.after.p_value is None or before.p_value is None or fit.after.p_value <= before.p_value:
-        return None
-    return {"family": "box_cox" if fit is report.box_cox else "yeo_johnson", "lambda": fit.lambda_,
-            "interval": list(fit.interval), "suggested": fit.suggested, "after": to_document(fit.after)}
 
 
 def _paired(profiles, inputs, goal: str):
@@ -160,31 +144,39 @@ def recommend():
         require_spread(differences, minimum_n=3)
         profiles = [profile_of_sample(differences)]
     options = normality_options(o)
-    report = advice.recommend(goal, profiles, options, transform_hint(profiles[0], options),
-                              o.get("lower_limit"), o.get("upper_limit"))
+    report = advice.recommend(goal, profiles, options, lower_limit=o.get("lower_limit"),
+                              upper_limit=o.get("upper_limit"), offer_transform=True)
     info = built[0].input if len(built) == 1 else InputInfo("samples", sum(b.input.n for b in built),
                                                             sum(b.input.missing for b in built))
     return respond(document(info, report))
 
 
+def diagnose_options(o: dict) -> diagnosing.DiagnoseOptions:
+    """The loaded options of /v1/diagnose (and of every /v1/batch sample) for stats."""
+    tails = o.get("tails") or {}
+    return diagnosing.DiagnoseOptions(
+        describe=describe_options(o),
+        normality=normality_options(o),
+        modality=modality_options(o),
+        tails=tail_questions(tails) if tails else None,
+        goal=o.get("goal"),
+        lower_limit=tails.get("lower_limit"),
+        upper_limit=tails.get("upper_limit"),
+        offer_transform=True,
+    )
+
+
+def diagnosis_document(info: InputInfo, profile, options: diagnosing.DiagnoseOptions) -> dict:
+    """The diagnosis as a response body, its parts' warnings gathered (without repeats) at
+    the top level only."""
+    doc = document(info, diagnosing.diagnose(profile, options))
+    for part in ("describe", "normality", "modality", "tails", "recommend"):
+        if isinstance(doc.get(part), dict):
+            doc[part].pop("warnings", None)
+    return doc
+
+
 @bp.route("/diagnose", methods=["POST", "GET"])
 def diagnose():
     req = read_sample_request(DiagnoseRequest, DiagnoseOptions, minimum_n=3)
-    o = req.options
-    normality_opts = normality_options(o)
-    options = diagnosing.DiagnoseOptions(
-        describe=describe_options(o),
-        normality=normality_opts,
-        modality=modality_options(o),
-        tails=tail_questions(o["tails"]) if o.get("tails") else None,
-        goal=o.get("goal"),
-        lower_limit=(o.get("tails") or {}).get("lower_limit"),
-        upper_limit=(o.get("tails") or {}).get("upper_limit"),
-    )
-    hint = transform_hint(req.profile, normality_opts) if o.get("goal") else None
-    result = diagnosing.diagnose(req.profile, options, hint)
-    doc = document(req.input, result)
-    for part in ("describe", "normality", "modality", "tails", "recommend"):
-        if isinstance(doc.get(part), dict):
-            doc[part].pop("warnings", None)  # gathered, without repeats, at the top level
-    return respond(doc)
+    return respond(diagnosis_document(req.input, req.profile, diagnose_options(req.options)))

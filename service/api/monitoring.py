@@ -7,11 +7,8 @@ from dataclasses import dataclass
 from flask import Blueprint, Response, current_app, g
 
 from ..stats import compare as comparing
-from ..stats import diagnose as diagnosing
-from ..stats import modality as peaks
 from ..stats.errors import DataError
-from ..stats.results import Unavailable
-from .analysis import _alpha, describe_options, modality_options, normality_options, tail_questions, transform_hint
+from .analysis import alpha_of, diagnose_options, diagnosis_document, mixture_components
 from .errors import Problem, from_data_error
 from .intake import load_json_body, load_options, read_sample_request, limits
 from .output import document, respond, to_document
@@ -52,13 +49,7 @@ def batch():
     total = sum(len(s["values"]) if isinstance(s, dict) and isinstance(s.get("values"), list) else 0 for s in samples.values())
     if total > cfg["MAX_BATCH_VALUES"]:
         raise Problem("too-large", f"the batch holds {total} values; this service accepts at most {cfg['MAX_BATCH_VALUES']} per batch")
-    options = diagnosing.DiagnoseOptions(
-        describe=describe_options(o), normality=normality_options(o), modality=modality_options(o),
-        tails=tail_questions(o["tails"]) if o.get("tails") else None,
-        goal=o.get("goal"),
-        lower_limit=(o.get("tails") or {}).get("lower_limit"),
-        upper_limit=(o.get("tails") or {}).get("upper_limit"),
-    )
+    options = diagnose_options(o)
     keep = o.get("fields_")
     results, n, missing = {}, 0, 0
     for name, raw in samples.items():
@@ -69,11 +60,7 @@ def batch():
             raw = load_options(SampleObject(), raw, prefix=f"/samples/{name}")
             built = build_sample(raw, limits(), quantile_definition=o.get("quantile_definition", "hf7"),
                                  prefix=f"/samples/{name}", minimum_n=3)
-            hint = transform_hint(built.profile, options.normality) if options.goal else None
-            body = document(built.input, diagnosing.diagnose(built.profile, options, hint))
-            for part in ("describe", "normality", "modality", "tails", "recommend"):
-                if isinstance(body.get(part), dict):
-                    body[part].pop("warnings", None)
+            body = diagnosis_document(built.input, built.profile, options)
             for key in ("service", "caution"):
                 body.pop(key)
             # fields is part of the request: an unknown key fails the whole batch (422).
@@ -115,7 +102,7 @@ def compare():
             raise Problem("invalid-request", "the two histograms must share their edges",
                           errors=[{"pointer": "/sample/histogram/edges", "detail": "differs from the reference's"}])
     g.sample_n = sample.input.n
-    result = comparing.compare(sample.profile, reference.profile, _alpha(o))
+    result = comparing.compare(sample.profile, reference.profile, alpha_of(o))
     doc = document(sample.input, result)
     doc["input"]["reference"] = to_document(reference.input)
     return respond(doc)
@@ -130,10 +117,7 @@ def plot():
         raise Problem("invalid-request", f"a {o['kind']} plot needs raw values"
                       + (" (a histogram allows kind=histogram)" if profile.histogram is not None else ""),
                       errors=[{"pointer": "/kind", "detail": f"not from a {profile.form}"}])
-    components = None
-    if o["kind"] in ("histogram", "both"):
-        fit = peaks.fit_profile(profile, peaks.untied(profile, o["seed"])[0], modality_options(o))
-        components = None if isinstance(fit, Unavailable) else fit[0].components
+    components = mixture_components(profile, o) if o["kind"] in ("histogram", "both") else None
     picture = render(o["kind"], sample=profile.sample, histogram=profile.histogram, moments=profile.moments,
                      components=components, label=req.input.label, title=o.get("title"))
     return Response(picture.svg, mimetype="image/svg+xml")

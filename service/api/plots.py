@@ -19,7 +19,6 @@ import matplotlib
 matplotlib.use("Agg")
 import matplotlib.pyplot as plt  # noqa: E402
 import numpy as np  # noqa: E402
-from scipy import special  # noqa: E402
 
 from ..stats.qq import qq  # noqa: E402
 

@@ -38,12 +38,11 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
-import numpy as np
-
 from .normality.battery import NormalityOptions, NormalityReport, normality
 from .profile import Profile
 from .quantiles import quantiles_sorted
 from .results import Unavailable
+from .transforms import transform_hint as fit_transform_hint
 
 GOALS = ("one_sample_mean", "two_sample", "paired", "k_sample", "correlation", "regression_residuals",
          "control_chart", "capability")
@@ -308,8 +307,13 @@ def _capability_advice(b: _Builder, s: SampleShape, opts) -> None:
 
 def recommend(goal: str, profiles: list[Profile], options: NormalityOptions = NormalityOptions(),
               transform_hint: dict | None = None, lower_limit: float | None = None,
-              upper_limit: float | None = None) -> Recommendation:
-    reports = [normality(p, options) for p in profiles]
+              upper_limit: float | None = None, reports: list[NormalityReport] | None = None,
+              offer_transform: bool = False) -> Recommendation:
+    """``reports`` are the profiles' normality reports (same options) when the caller has
+    them. A skewed sample gets ``transform_hint`` when given; with ``offer_transform`` the
+    hint is fitted to the first sample here, only then (it is the costly part), and
+    offered when it helps."""
+    reports = reports if reports is not None else [normality(p, options) for p in profiles]
     shapes = [_shape(p, r) for p, r in zip(profiles, reports)]
     b = _Builder(goal)
     first = shapes[0]
@@ -333,9 +337,10 @@ def recommend(goal: str, profiles: list[Profile], options: NormalityOptions = No
         raise ValueError(f"unknown goal {goal!r}")
     if any(s.normality in ("inconclusive", "insufficient_data") for s in shapes):
         b.cautions.append("a sample is too small for the normality tests to say much: the advice rests on the shape estimates")
-    if transform_hint and any(_skewed(s, options.skewness_threshold) for s in shapes):
-        b.transform = transform_hint
-        b.rule("transform_helps")
+    if (transform_hint or offer_transform) and any(_skewed(s, options.skewness_threshold) for s in shapes):
+        b.transform = transform_hint or fit_transform_hint(profiles[0], options, reports[0])
+        if b.transform:
+            b.rule("transform_helps")
     capability = _capability(profiles[0], lower_limit, upper_limit) if goal == "capability" else Unavailable(
         "only for goal capability")
     return Recommendation(goal, b.recommended, tuple(b.alternatives), b.transform, tuple(b.cautions), tuple(b.rules),

@@ -144,9 +144,10 @@ class DiagnoseOptions:
     goal: str | None = None
     lower_limit: float | None = None
     upper_limit: float | None = None
+    offer_transform: bool = False  # with a goal: fit and offer a transformation when the data are skewed
 
 
-def diagnose(profile: Profile, options: DiagnoseOptions = DiagnoseOptions(), transform_hint: dict | None = None,
+def diagnose(profile: Profile, options: DiagnoseOptions = DiagnoseOptions(),
              others: list[Profile] | None = None) -> Diagnosis:
     d = describe(profile, options.describe)
     n = normality(profile, options.normality)
@@ -157,8 +158,9 @@ def diagnose(profile: Profile, options: DiagnoseOptions = DiagnoseOptions(), tra
         if options.tails else Unavailable("ask with above, below, between, lower_limit, upper_limit or quantiles")
     )
     r: Recommendation | Unavailable = (
-        recommend(options.goal, [profile] + list(others or []), options.normality, transform_hint,
-                  options.lower_limit, options.upper_limit)
+        recommend(options.goal, [profile] + list(others or []), options.normality, None, options.lower_limit,
+                  options.upper_limit, reports=[n] + [normality(o, options.normality) for o in others or []],
+                  offer_transform=options.offer_transform)
         if options.goal else Unavailable("ask with goal")
     )
     label = _label(profile, n, m)

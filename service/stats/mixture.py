@@ -48,7 +48,6 @@ import time
 from dataclasses import dataclass, replace
 
 import numpy as np
-from scipy import special
 
 LOG_SQRT_2PI = 0.5 * math.log(2.0 * math.pi)
 BIC_TIE_BAND = 2.0  # [4]: differences below 2 are not worth more than a bare mention

@@ -18,16 +18,15 @@ References
 
 from __future__ import annotations
 
-import math
 from dataclasses import dataclass
 
 import numpy as np
-from scipy import optimize, special, stats
+from scipy import optimize, stats
 
 from .forms import Sample
-from .normality.battery import NormalityOptions, normality
-from .profile import profile_of_sample
-from .results import Method, Unavailable
+from .normality.battery import NormalityOptions, NormalityReport, normality
+from .profile import Profile, profile_of_sample
+from .results import Method
 
 BOX_COX = Method("Box-Cox power transformation, lambda by maximum likelihood, profile-likelihood interval",
                  "Box & Cox (1964), JRSS B 26(2):211-252")
@@ -36,6 +35,7 @@ YEO_JOHNSON = Method("Yeo-Johnson power transformation, lambda by maximum likeli
 SIMPLE = ((-1.0, "reciprocal"), (-0.5, "reciprocal square root"), (0.0, "log"), (0.5, "square root"),
           (1.0, "none (the data as they are)"), (2.0, "square"))
 LAMBDA_RANGE = (-5.0, 5.0)
+HINT_MIN_N = 20  # fewer values cannot tell whether a transformation helps
 BACK_TRANSFORM = (
     "Results on the transformed scale do not carry back term by term: the back-transformed mean of "
     "transformed data estimates the median of the original scale (for the log, the geometric mean), not "
@@ -75,10 +75,10 @@ class TransformReport:
     warnings: tuple
 
 
-def _shape(values: np.ndarray, options: NormalityOptions) -> Shape:
-    sample = Sample(values)
-    profile = profile_of_sample(sample)
-    report = normality(profile, options)
+def shape_of(profile: Profile, options: NormalityOptions, report: NormalityReport | None = None) -> Shape:
+    """Shape and normality of a profile; ``report`` is its normality report when the
+    caller already has one (with the same options)."""
+    report = report if report is not None else normality(profile, options)
     v = report.verdict
     primary = getattr(report.tests, v.primary_test) if v.primary_test else None
     m = profile.moments
@@ -90,7 +90,7 @@ def _profile_interval(llf, lam: float, confidence: float) -> tuple[float, float]
     """Where the log-likelihood falls chi2_1(confidence)/2 below its maximum, by Brent's
     method on each side (bounded to LAMBDA_RANGE)."""
     drop = 0.5 * float(stats.chi2.ppf(confidence, 1))
-    top = llf(lam)
+    top = llf(lam)  # llf is memoised: the maximiser, the guards and brentq share evaluations
 
     def f(t):
         return top - llf(t) - drop
@@ -109,17 +109,23 @@ def _suggest(lam: float, interval: tuple[float, float]) -> dict | None:
     return {"lambda": value, "name": name}
 
 
-def _fit(x: np.ndarray, kind: str, confidence: float, options: NormalityOptions) -> TransformResult:
+def fit_family(x: np.ndarray, kind: str, confidence: float, options: NormalityOptions) -> TransformResult:
+    """One family (``box_cox`` or ``yeo_johnson``) fitted to the values ``x``."""
     method = BOX_COX if kind == "box_cox" else YEO_JOHNSON
     if kind == "box_cox" and x.min() <= 0:
         return TransformResult(False, "Box-Cox needs strictly positive data; Yeo-Johnson handles zero and negative values",
                                None, None, None, None, method)
     family = stats.boxcox_llf if kind == "box_cox" else stats.yeojohnson_llf
 
+    seen: dict[float, float] = {}
+
     def llf(t: float) -> float:
-        with np.errstate(over="ignore", invalid="ignore", divide="ignore"):
-            value = float(family(t, x))
-        return value if np.isfinite(value) else -np.inf
+        t = float(t)
+        if t not in seen:
+            with np.errstate(over="ignore", invalid="ignore", divide="ignore"):
+                value = float(family(t, x))
+            seen[t] = value if np.isfinite(value) else -np.inf
+        return seen[t]
     result = optimize.minimize_scalar(lambda t: -llf(t), bounds=LAMBDA_RANGE, method="bounded",
                                       options={"xatol": 1e-10, "maxiter": 500})
     lam = float(result.x)
@@ -132,16 +138,39 @@ def _fit(x: np.ndarray, kind: str, confidence: float, options: NormalityOptions)
     if not finite.all() or np.ptp(transformed) == 0:
         return TransformResult(True, "the transformed values overflow or collapse; lambda is too extreme to use",
                                lam, interval, _suggest(lam, interval), None, method)
-    return TransformResult(True, reason, lam, interval, _suggest(lam, interval), _shape(transformed, options), method)
+    after = shape_of(profile_of_sample(Sample(transformed)), options)
+    return TransformResult(True, reason, lam, interval, _suggest(lam, interval), after, method)
 
 
-def transform(sample: Sample, options: NormalityOptions = NormalityOptions(), confidence: float = 0.95) -> TransformReport:
+def transform(sample: Sample, options: NormalityOptions = NormalityOptions(), confidence: float = 0.95,
+              profile: Profile | None = None) -> TransformReport:
+    """Both families, with the shape before and after; ``profile`` is the sample's own
+    profile when the caller has built it already."""
     x = np.asarray(sample.values, dtype=np.float64)
+    profile = profile if profile is not None else profile_of_sample(sample)
     return TransformReport(
-        before=_shape(x, options),
-        box_cox=_fit(x, "box_cox", confidence, options),
-        yeo_johnson=_fit(x, "yeo_johnson", confidence, options),
+        before=shape_of(profile, options),
+        box_cox=fit_family(x, "box_cox", confidence, options),
+        yeo_johnson=fit_family(x, "yeo_johnson", confidence, options),
         back_transform=BACK_TRANSFORM,
         confidence=confidence,
-        warnings=profile_of_sample(sample).notices,
+        warnings=profile.notices,
     )
+
+
+def transform_hint(profile: Profile, options: NormalityOptions, report: NormalityReport | None = None) -> dict | None:
+    """The transformation a recommendation offers: Box-Cox (Yeo-Johnson for data not all
+    positive) at 95%, only when it brings the primary test's p-value up. ``report`` is the
+    profile's normality report when the caller has it."""
+    if profile.sample is None or profile.n < HINT_MIN_N:
+        return None
+    x = np.asarray(profile.sample.values, dtype=np.float64)
+    kind = "box_cox" if x.min() > 0 else "yeo_johnson"
+    fit = fit_family(x, kind, 0.95, options)
+    if fit.after is None or fit.lambda_ is None:
+        return None
+    before = shape_of(profile, options, report)
+    if fit.after.p_value is None or before.p_value is None or fit.after.p_value <= before.p_value:
+        return None
+    return {"family": kind, "lambda": fit.lambda_, "interval": list(fit.interval), "suggested": fit.suggested,
+            "after": fit.after}

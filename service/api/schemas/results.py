@@ -6,7 +6,7 @@ from marshmallow import Schema, ValidationError, fields, validate, validates_sch
 
 from ...stats.advice import GOALS
 from ...stats.quantiles import DEFINITIONS
-from .common import Envelope, MethodRef, Number, ShapeThresholds, Whole, maybe, nullable, number
+from .common import Envelope, MethodRef, Number, ShapeThresholds, maybe, nullable, number
 from .describe import DescribeBody
 from .forms import SampleObject
 from .modality import ModalityBody, ModalityOptions

@@ -48,16 +48,14 @@ class ParsedText:
     label: str | None
 
 
-_TRAILING_BLANK_LINES = re.compile(r"(?:\n[ \t\u00a0]*)+$")
-
-
 def _normalise(text: str) -> str:
     """Drop a byte-order mark, unify line ends and drop trailing blank lines (a pasted
     column often ends with some; they are not cells)."""
     if text.startswith("\ufeff"):
         text = text[1:]
     text = text.replace("\r\n", "\n").replace("\r", "\n")
-    return _TRAILING_BLANK_LINES.sub("", text)
+    cut = text.find("\n", len(text.rstrip(" \t\u00a0\n")))  # the line end after the last cell
+    return text if cut < 0 else text[:cut]
 
 
 def _cells(text: str, separators: str) -> list[str]:
@@ -90,10 +88,27 @@ def _fault(code: str, index: int, detail: str, where: dict) -> Problem:
     return Problem(code, detail, errors=[{"pointer": f"/values/{index}", "detail": detail, **where}])
 
 
-def _convert(cells: list[str], *, decimal: str, missing: str, where) -> tuple[np.ndarray, int]:
+def _all_numbers(tokens: np.ndarray, decimal: str) -> np.ndarray | None:
+    """The common case in one conversion: every token a finite number, none missing (each
+    missing-value marker either fails to convert or converts to NaN). ``None`` otherwise."""
+    if decimal == ",":
+        tokens = np.strings.replace(tokens, ",", ".")
+    if (np.strings.find(tokens, "_") >= 0).any():
+        return None
+    try:
+        values = tokens.astype(np.float64)
+    except ValueError:
+        return None
+    return values if np.isfinite(values).all() else None
+
+
+def _convert(cells: list[str] | np.ndarray, *, decimal: str, missing: str, where) -> tuple[np.ndarray, int]:
     """Cells to finite floats; ``where(index)`` gives the line and column of a fault."""
     tokens = np.array(cells, dtype=_STRINGS)
     tokens = np.strings.strip(np.strings.strip(tokens), '"')
+    clean = _all_numbers(tokens, decimal)
+    if clean is not None:
+        return clean, 0
     absent = np.isin(tokens, _MISSING)
     n_missing = int(np.count_nonzero(absent))
     if n_missing and missing == "reject":
@@ -180,10 +195,10 @@ def parse_text_values(
         return _flat(body, explicit, decimal, missing, max_values, offset, " ".join(names) if names else None)
     sep = next((c for c in explicit if c in body), " ")
     squeezed = _SPACES.sub(" ", body) if sep == " " else body
-    lines = np.array(squeezed.split("\n") if body else [], dtype=_STRINGS)
-    if lines.size > max_values:
-        raise _too_many(int(lines.size), max_values)
-    lines = np.strings.strip(lines)
+    raw_lines = np.array(squeezed.split("\n") if body else [], dtype=_STRINGS)
+    if raw_lines.size > max_values:
+        raise _too_many(int(raw_lines.size), max_values)
+    lines = np.strings.strip(raw_lines)
     blank = np.strings.str_len(lines) == 0
     counts = np.where(blank, 0, np.strings.count(lines, sep) + 1)
     widths = np.unique(counts[~blank])
@@ -192,6 +207,12 @@ def parse_text_values(
         if column is not None:
             raise Problem("invalid-request", "column= picks a column of a table; this body holds a single column or row",
                           errors=[{"pointer": "/column", "detail": "not a table"}])
+        cells = np.strings.strip(raw_lines, " ") if sep == " " and raw_lines.size else None
+        if cells is not None and not (np.strings.find(cells, " ") >= 0).any():
+            # One cell per line (spaces split cells, as in _cells): the lines are the cells.
+            values, n_missing = _convert(cells, decimal=decimal, missing=missing,
+                                         where=lambda i: {"line": i + 1 + offset, "column": 1})
+            return ParsedText(values, n_missing, int(cells.size), label)
         return _flat(body, explicit, decimal, missing, max_values, offset, label)
     if names is not None and len(names) == 1:
         width = int(widths.max())
@@ -209,6 +230,8 @@ def parse_text_values(
                   "table, one value per line, or pass layout=flat to read every cell in order")
         raise Problem("invalid-value", detail, errors=[{"detail": detail, "line": row + 1 + offset}])
     k = _pick_column(column, names, width, sep, decimal)
+    if not lines.size:  # a header and no data lines
+        return ParsedText(np.empty(0), 0, 0, names[k] if names else None)
     lines = np.where(blank, sep * (width - 1), lines)
     cells = np.array(sep.join(lines.tolist()).split(sep), dtype=_STRINGS).reshape(-1, width)[:, k].tolist()
     values, n_missing = _convert(cells, decimal=decimal, missing=missing,

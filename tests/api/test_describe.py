@@ -79,6 +79,13 @@ class TestDescribeText:
         doc = client.post("/v1/describe", data="weight (kg)\n1\n2\n4", content_type="text/csv").get_json()
         assert doc["input"]["label"] == "weight (kg)"
 
+    @pytest.mark.parametrize("body, column", [("a,b\n", "a"), ("a;b;c\n", "3")])
+    def test_header_without_data_lines_is_too_few_values(self, client, body, column):
+        # Once a 500 (found by fuzzing): a table header and nothing under it.
+        r = client.post(f"/v1/describe?column={column}", data=body, content_type="text/csv")
+        assert (r.status_code, r.mimetype) == (422, "application/problem+json")
+        assert r.get_json()["type"] == "/problems/too-few-values"
+
     def test_options_in_query(self, client):
         r = client.post("/v1/describe?missing=reject", data="1\n2\n\n3", content_type="text/plain")
         assert r.status_code == 422

@@ -30,7 +30,7 @@ from .thresholds import DEFAULT_KURTOSIS_THRESHOLD, DEFAULT_SKEWNESS_THRESHOLD
 from .forms import Sample
 from .histogram import binned_mode, binned_share, extreme_bin
 from .moments import Moments, se_kurtosis, se_skewness
-from .profile import Profile, profile_of_sample, rounding_unit
+from .profile import Profile, profile_of_sample
 from .pvalues import two_sided_normal
 from .quantiles import DESCRIPTIONS
 from .results import Notice, Unavailable
@@ -261,7 +261,7 @@ def _mode_and_peaks(profile: Profile) -> tuple[float | Unavailable, int]:
     if profile.sample is not None:
         m, order = profile.moments, profile.order
         bandwidth = silverman_bandwidth(m.sd, order.q3 - order.q1, profile.n)
-        unit = rounding_unit(profile.sample)
+        unit = profile.sample.rounding_unit
         return kde_mode_and_peaks(profile.sample.sorted, bandwidth, max(bandwidth, unit or 0.0), 0.1)
     if profile.histogram is not None:
         return binned_mode(profile.histogram), 1

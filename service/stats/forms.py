@@ -77,6 +77,25 @@ class Sample:
         s = self.sorted
         return int(np.count_nonzero(s[1:] != s[:-1])) + 1 if s.size else 0
 
+    @cached_property
+    def rounding_unit(self) -> float | None:
+        """The step of the grid the values sit on, or None when they do not sit on one.
+
+        The step is the smallest gap between distinct values; the values sit on its grid
+        when each is within 1e-6 steps of a multiple of it (counted from the smallest).
+        Computed once per sample: the notices, the mode and the tie spreading share it."""
+        if self.n_distinct >= self.n:
+            return None
+        s = self.sorted
+        distinct = s[np.concatenate([[True], s[1:] != s[:-1]])]
+        if distinct.size < 2:
+            return None
+        unit = float(np.min(np.diff(distinct)))
+        if distinct[-1] - distinct[0] > 1e9 * unit:  # no grid this fine is a rounding grid
+            return None
+        steps = (distinct - distinct[0]) / unit
+        return unit if np.all(np.abs(steps - np.round(steps)) < 1e-6) else None
+
 
 def require_spread(sample: Sample, *, minimum_n: int = 2) -> None:
     """Refuse samples that no shape statistic can describe.

@@ -25,11 +25,10 @@ import numpy as np
 from scipy import optimize, special
 
 from .errors import DataError
-from .moments import Moments
+from .moments import MAX_N, Moments
 from .results import Notice, Unavailable
 
 _MAX_ITERATIONS = 200
-MAX_N = 10**15
 
 
 class InvalidHistogram(DataError):

@@ -33,8 +33,8 @@ import numpy as np
 from scipy import optimize
 
 from .mixture import Candidate, Component, MixtureFit, MixtureOptions, fit_mixtures, weighted_from_bins, weighted_from_sorted
-from .normality.result import TestResult, decide
-from .profile import Profile, rounding_unit
+from .normality.result import TestResult, decide, not_applicable
+from .profile import Profile
 from .results import Method, Notice, Unavailable
 
 DIP_TEST = Method(
@@ -193,12 +193,6 @@ def bimodality_coefficient(profile: Profile) -> BimodalityCoefficient:
     return BimodalityCoefficient(value, BC_THRESHOLD, value > BC_THRESHOLD, note)
 
 
-def _resolution(sorted_values: np.ndarray) -> float:
-    """The data's rounding unit: the smallest gap between distinct values."""
-    gaps = np.diff(np.unique(sorted_values))
-    return float(gaps.min()) if gaps.size else 0.0
-
-
 def untied(profile: Profile, seed: int) -> tuple[np.ndarray | None, Notice | None]:
     """The sorted raw values, with heavy ties broken.
 
@@ -213,7 +207,7 @@ def untied(profile: Profile, seed: int) -> tuple[np.ndarray | None, Notice | Non
         return None, None
     s = profile.sample.sorted
     n, distinct = s.size, profile.sample.n_distinct
-    unit = rounding_unit(profile.sample)
+    unit = profile.sample.rounding_unit
     # Only rounding spreads: a few distinct values (point masses) are data, not rounding.
     if distinct >= 0.5 * n or distinct < MIN_LEVELS or unit is None:
         return s, None
@@ -229,10 +223,10 @@ def untied(profile: Profile, seed: int) -> tuple[np.ndarray | None, Notice | Non
 def dip_test(values: np.ndarray | None, form: str, alpha: float, spread: bool) -> Dip:
     """The dip test on sorted raw values (``None`` for the aggregated forms)."""
     if values is None:
-        return Dip(None, None, None, False, None, f"needs raw values, not {form}", DIP_TEST)
+        return not_applicable(DIP_TEST, f"needs raw values, not {form}")
     n = values.size
     if n < DIP_MIN_N:
-        return Dip(None, None, None, False, None, f"requires at least {DIP_MIN_N} observations; only n={n} were given", DIP_TEST)
+        return not_applicable(DIP_TEST, f"requires at least {DIP_MIN_N} observations; only n={n} were given")
     import diptest  # compiled; imported here so the rest of the module loads without it
 
     reason = "computed after spreading tied values over their rounding unit" if spread else None

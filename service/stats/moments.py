@@ -31,6 +31,14 @@ import numpy as np
 SKEWNESS_CONVENTIONS = ("G1", "g1", "b1")
 KURTOSIS_CONVENTIONS = ("G2", "g2", "b2")
 
+# The largest n a summary, a set of partials or a histogram may claim: beyond it the
+# small-sample corrections of the shape statistics lose all precision.
+MAX_N = 10**15
+# Relative slack on the feasibility bounds of claimed moments (Pearson, Dalen, Bhatia-Davis):
+# numbers computed in floating point, or rounded to a few digits, may miss an exact bound
+# (common practice: a few hundred ulps).
+FEASIBILITY_SLACK = 1e-9
+
 
 @dataclass(frozen=True)
 class Moments:

@@ -23,12 +23,8 @@ import math
 from dataclasses import dataclass
 
 from .errors import DataError
-from .moments import Moments
-
-MAX_N = 10**15
-# Relative slack for the feasibility checks: partials computed in floating point may
-# miss an exact bound by rounding (common practice: a few hundred ulps).
-_SLACK = 1e-9
+from .moments import FEASIBILITY_SLACK as _SLACK
+from .moments import MAX_N, Moments
 
 
 class InfeasiblePartial(DataError):

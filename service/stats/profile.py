@@ -72,27 +72,9 @@ def profile_of_sample(sample: Sample, quantile_definition: str = "hf7") -> Profi
 ROUNDING_ALERT = 1.5
 
 
-def rounding_unit(sample: Sample) -> float | None:
-    """The step of the grid the values sit on, or None when they do not sit on one.
-
-    The step is the smallest gap between distinct values; the values sit on its grid
-    when each is within 1e-6 steps of a multiple of it (counted from the smallest)."""
-    if sample.n_distinct >= sample.n:
-        return None
-    s = sample.sorted
-    distinct = s[np.concatenate([[True], s[1:] != s[:-1]])]
-    if distinct.size < 2:
-        return None
-    unit = float(np.min(np.diff(distinct)))
-    if distinct[-1] - distinct[0] > 1e9 * unit:  # no grid this fine is a rounding grid
-        return None
-    steps = (distinct - distinct[0]) / unit
-    return unit if np.all(np.abs(steps - np.round(steps)) < 1e-6) else None
-
-
 def sample_notices(sample: Sample, moments: Moments) -> tuple[Notice, ...]:
     """Warnings every analysis of raw values shares."""
-    unit = rounding_unit(sample)
+    unit = sample.rounding_unit
     if unit is None or moments.m2 <= 0:
         return ()
     relative = unit / moments.sd

@@ -32,10 +32,8 @@ import math
 from dataclasses import dataclass
 
 from .errors import DataError
-from .moments import Moments, g1_from_skewness, g2_from_kurtosis
-
-MAX_N = 10**15
-_SLACK = 1e-9  # rounding allowance on the bounds (a summary is often rounded to a few digits)
+from .moments import FEASIBILITY_SLACK as _SLACK
+from .moments import MAX_N, Moments, g1_from_skewness, g2_from_kurtosis
 
 
 class InfeasibleSummary(DataError):

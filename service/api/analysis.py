@@ -119,7 +119,7 @@ def transform():
     return respond(document(req.input, report))
 
 
-def _paired(profiles, inputs, goal: str):
+def _paired(profiles, goal: str):
     a, b = profiles
     if a.sample is None or b.sample is None:
         raise Problem("invalid-request", f"goal {goal} pairs values: both samples must be raw values",
@@ -138,7 +138,7 @@ def recommend():
     built = [build_sample(s, limits(), prefix=f"/samples/{i}", minimum_n=3) for i, s in enumerate(o["samples"])]
     profiles = [b.profile for b in built]
     if goal in ("paired", "correlation"):
-        _paired(profiles, built, goal)
+        _paired(profiles, goal)
     if goal == "paired":
         differences = Sample(np.asarray(profiles[0].sample.values) - np.asarray(profiles[1].sample.values))
         require_spread(differences, minimum_n=3)

@@ -15,10 +15,9 @@ import orjson
 from flask import current_app, g, request
 from marshmallow import Schema, ValidationError, fields
 
-from ..stats.forms import Sample, require_spread
-from ..stats.profile import Profile, profile_of_sample
+from ..stats.profile import Profile
 from .errors import Problem
-from .sample_input import InputInfo, Limits, build_sample
+from .sample_input import InputInfo, Limits, build_sample, sample_of_values
 from .schemas.common import Number, TextOptions, Whole
 from .text_input import parse_text_values
 
@@ -100,7 +99,7 @@ def _values_index(raw: bytes, position: int) -> str:
 
 def load_json_body() -> dict:
     raw = read_body()
-    if not raw.strip():
+    if not raw or raw.isspace():
         raise Problem("malformed-body", "the request body is empty; send a JSON object")
     try:
         body = orjson.loads(raw)
@@ -166,8 +165,7 @@ def _text_sample(options_cls: type[Schema], minimum_n: int) -> SampleRequest:
         text = "\n".join(request.args.getlist("values"))
     else:
         text = read_text_body()
-    text_fields = TextOptions().fields
-    text_opts = load_options(TextOptions(), {k: query.pop(k) for k in list(query) if k in text_fields})
+    text_opts = _pop_text_options(query)
     missing = query.pop("missing", "drop")
     if missing not in ("drop", "reject"):
         raise Problem("invalid-request", "missing must be drop or reject", errors=[{"pointer": "/missing", "detail": f"got {missing!r}"}])
@@ -175,11 +173,9 @@ def _text_sample(options_cls: type[Schema], minimum_n: int) -> SampleRequest:
     options = load_options(schema, typed_query(schema, query))
     parsed = parse_text_values(text, decimal=text_opts["decimal"], column=text_opts["column"],
                                layout=text_opts["layout"], missing=missing, max_values=limits().max_values)
-    sample = Sample(parsed.values, parsed.missing)
-    require_spread(sample, minimum_n=minimum_n)
-    profile = profile_of_sample(sample, options.get("quantile_definition", "hf7"))
-    g.sample_n = sample.n
-    return SampleRequest(options, profile, InputInfo("values", sample.n, parsed.missing, parsed.label))
+    built = sample_of_values(parsed.values, parsed.missing, quantile_definition=options.get("quantile_definition", "hf7"),
+                             minimum_n=minimum_n, label=parsed.label)
+    return SampleRequest(options, built.profile, built.input)
 
 
 def read_sample_request(schema_cls: type[Schema], options_cls: type[Schema], *, minimum_n: int = 2) -> SampleRequest:
@@ -188,23 +184,37 @@ def read_sample_request(schema_cls: type[Schema], options_cls: type[Schema], *, 
     of a text body)."""
     mimetype = request.mimetype
     if request.method in ("GET", "HEAD") or mimetype in TEXT_TYPES:
-        return _text_sample(options_cls, minimum_n)
-    if mimetype in JSON_TYPES or mimetype.endswith("+json"):
-        body = load_json_body()
-        query = _query_options()
-        text_only = {k: query.pop(k) for k in list(query) if k in TextOptions().fields}
-        load_options(TextOptions(), text_only)  # still checked, so a typo is a 422
-        g.ignored_options = sorted(text_only)
-        twice = sorted(set(query) & set(body))
-        if twice:
-            raise Problem("invalid-request", f"{', '.join(twice)} given both in the body and in the query string; give each once",
-                          errors=[{"pointer": f"/{name}", "detail": "given twice"} for name in twice])
-        schema = schema_cls()
-        options = load_options(schema, {**body, **typed_query(options_cls(), query)})
-        built = build_sample(options, limits(), quantile_definition=options.get("quantile_definition", "hf7"), minimum_n=minimum_n)
-        g.sample_n = built.input.n
-        return SampleRequest(options, built.profile, built.input)
-    raise Problem(
-        "unsupported-media-type",
-        f"Content-Type {mimetype or '(none)'} is not accepted here; send application/json, text/csv or text/plain",
-    )
+        req = _text_sample(options_cls, minimum_n)
+    elif mimetype in JSON_TYPES or mimetype.endswith("+json"):
+        req = _json_sample(schema_cls, options_cls, minimum_n)
+    else:
+        raise Problem(
+            "unsupported-media-type",
+            f"Content-Type {mimetype or '(none)'} is not accepted here; send application/json, text/csv or text/plain",
+        )
+    g.sample_n = req.input.n
+    return req
+
+
+_TEXT_FIELDS = frozenset(TextOptions().fields)
+
+
+def _pop_text_options(query: dict) -> dict:
+    """Take the text-body options (decimal, column, layout) out of ``query``, checked."""
+    return load_options(TextOptions(), {k: query.pop(k) for k in list(query) if k in _TEXT_FIELDS})
+
+
+def _json_sample(schema_cls: type[Schema], options_cls: type[Schema], minimum_n: int) -> SampleRequest:
+    body = load_json_body()
+    query = _query_options()
+    text_only = sorted(_TEXT_FIELDS.intersection(query))
+    _pop_text_options(query)  # still checked, so a typo is a 422
+    g.ignored_options = text_only
+    twice = sorted(set(query) & set(body))
+    if twice:
+        raise Problem("invalid-request", f"{', '.join(twice)} given both in the body and in the query string; give each once",
+                      errors=[{"pointer": f"/{name}", "detail": "given twice"} for name in twice])
+    schema = schema_cls()
+    options = load_options(schema, {**body, **typed_query(options_cls(), query)})
+    built = build_sample(options, limits(), quantile_definition=options.get("quantile_definition", "hf7"), minimum_n=minimum_n)
+    return SampleRequest(options, built.profile, built.input)

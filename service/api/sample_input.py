@@ -83,6 +83,15 @@ def _require_n(profile: Profile, minimum_n: int) -> None:
         raise TooFewValues(f"at least {minimum_n} values are needed; the {profile.form} describes n={profile.n}")
 
 
+def sample_of_values(values, missing: int, *, quantile_definition: str = "hf7", minimum_n: int = 2,
+                     label: str | None = None) -> SampleInput:
+    """Raw values already parsed and checked (finite float64, missing ones removed and
+    counted), from a JSON array or a text body, as a profile and its ``input`` block."""
+    sample = Sample(values, missing)
+    require_spread(sample, minimum_n=minimum_n)
+    return SampleInput(profile_of_sample(sample, quantile_definition), InputInfo("values", sample.n, missing, label))
+
+
 def build_sample(data: dict, limits: Limits, *, quantile_definition: str = "hf7", prefix: str = "", minimum_n: int = 2) -> SampleInput:
     """Turn one loaded sample object into a ``Profile`` and its ``input`` block; a fault
     the statistics layer finds points into the request under ``prefix``."""
@@ -99,9 +108,8 @@ def _build(data: dict, limits: Limits, quantile_definition: str, prefix: str, mi
     if form == "values":
         parsed = parse_json_values(data["values"], pointer=f"{prefix}/values", max_values=limits.max_values,
                                    missing=data.get("missing") or "drop")
-        sample = Sample(parsed.values, parsed.missing)
-        require_spread(sample, minimum_n=minimum_n)
-        return SampleInput(profile_of_sample(sample, quantile_definition), InputInfo("values", sample.n, parsed.missing))
+        return sample_of_values(parsed.values, parsed.missing, quantile_definition=quantile_definition,
+                                minimum_n=minimum_n)
     if form == "summary":
         s = data["summary"]
         conventions = data.get("conventions") or {"skewness": "G1", "kurtosis": "G2"}

@@ -25,8 +25,8 @@ import pytest
 from service import create_app
 
 from ..stats.partials_reference import partials_of
+from .helpers import PROBLEM
 
-PROBLEM = "application/problem+json"
 DROPPED = ("service", "caution")  # removed from each slot by design (service/api/monitoring.py)
 OPTIONS = {  # non-default options, so that a slot that ignored them would differ
     "alpha": 0.01,

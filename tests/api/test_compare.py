@@ -19,31 +19,18 @@ import numpy as np
 import pytest
 from numpy.testing import assert_allclose
 from scipy import stats
+from .helpers import post_ok, post_refused, values
 
-PROBLEM = "application/problem+json"
 N = 2000
 MU, SD = 10.0, 2.0
 
 
 def ok(client, conforms, body: dict) -> dict:
-    r = client.post("/v1/compare", json=body)
-    assert r.status_code == 200, r.get_data(as_text=True)
-    doc = r.get_json()
-    conforms(doc, "CompareResponse")
-    return doc
+    return post_ok(client, conforms, "/v1/compare", body, "CompareResponse")
 
 
 def refused(client, conforms, body: dict, status: int = 422) -> dict:
-    r = client.post("/v1/compare", json=body)
-    assert r.status_code == status, r.get_data(as_text=True)
-    assert r.mimetype == PROBLEM
-    doc = r.get_json()
-    conforms(doc, "ProblemDocument")
-    return doc
-
-
-def values(x) -> dict:
-    return {"values": np.asarray(x, dtype=float).tolist()}
+    return post_refused(client, conforms, "/v1/compare", body, status)
 
 
 def pair(x, y, **options) -> dict:

@@ -5,9 +5,7 @@ response is checked against the generated OpenAPI document."""
 
 from __future__ import annotations
 
-import json
 import re
-from importlib import resources
 
 import numpy as np
 import pytest
@@ -16,6 +14,7 @@ from scipy import stats
 from service import create_app
 
 from ..stats import samples
+from .helpers import example, post_ok, values
 
 ENVELOPE = ("service", "input", "warnings", "caution")
 RESPONSE = {"/v1/describe": "DescribeResponse", "/v1/normality": "NormalityResponse", "/v1/modality": "ModalityResponse",
@@ -25,24 +24,12 @@ FLAGS = {"not_normal", "right_skewed", "left_skewed", "heavy_tails", "light_tail
 SAMPLE_KEYS = ("values", "summary", "conventions", "sd_convention", "partials", "histogram", "sheppard")
 
 
-def example(name: str) -> dict:
-    return json.loads(resources.files("service.api").joinpath("examples", name).read_text())
-
-
 def ok(client, conforms, path: str, body: dict) -> dict:
-    r = client.post(path, json=body)
-    assert r.status_code == 200, r.get_data(as_text=True)
-    doc = r.get_json()
-    conforms(doc, RESPONSE[path])
-    return doc
+    return post_ok(client, conforms, path, body, RESPONSE[path])
 
 
 def body_of(doc: dict) -> dict:
     return {k: v for k, v in doc.items() if k not in ENVELOPE}
-
-
-def values(x) -> dict:
-    return {"values": np.asarray(x, dtype=float).tolist()}
 
 
 TAILS = {"above": [12.0, 15.0], "below": [9.0], "between": [[10.0, 14.0]], "lower_limit": 8.0, "upper_limit": 17.0,

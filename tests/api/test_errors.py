@@ -7,7 +7,7 @@ from flask import Blueprint
 
 from service import create_app
 
-PROBLEM = "application/problem+json"
+from .helpers import PROBLEM
 
 
 def assert_problem(r, status: int, code: str | None = None) -> dict:

@@ -19,28 +19,19 @@ from scipy import stats
 from ..stats import samples
 from ..stats.exact import exact_moments
 from ..stats.partials_reference import as_request, partials_of
+from .helpers import post_ok, post_refused
 
-PROBLEM = "application/problem+json"
 RAW_ONLY = ["shapiro_wilk", "shapiro_francia", "anderson_darling", "lilliefors", "cramer_von_mises"]
 MOMENT_TESTS = ["skewness_test", "kurtosis_test", "dagostino_pearson", "jarque_bera"]
 RESPONSE = {"/v1/describe": "DescribeResponse", "/v1/normality": "NormalityResponse"}
 
 
 def ok(client, conforms, path: str, body: dict, query: str = "") -> dict:
-    r = client.post(path + query, json=body)
-    assert r.status_code == 200, r.get_data(as_text=True)
-    doc = r.get_json()
-    conforms(doc, RESPONSE[path])
-    return doc
+    return post_ok(client, conforms, path + query, body, RESPONSE[path])
 
 
 def refused(client, conforms, path: str, body: dict) -> dict:
-    r = client.post(path, json=body)
-    assert r.status_code == 422, r.get_data(as_text=True)
-    assert r.mimetype == PROBLEM
-    doc = r.get_json()
-    conforms(doc, "ProblemDocument")
-    return doc
+    return post_refused(client, conforms, path, body)
 
 
 def quiet(fn, *args):

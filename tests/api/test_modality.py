@@ -19,26 +19,17 @@ from service import create_app
 
 from ..stats import modality_samples as ms
 from ..stats.partials_reference import partials_of
+from .helpers import post_ok, post_refused
 
 PATH = "/v1/modality"
-PROBLEM = "application/problem+json"
 
 
 def ok(client, conforms, body: dict, query: str = "") -> dict:
-    r = client.post(PATH + query, json=body)
-    assert r.status_code == 200, r.get_data(as_text=True)
-    doc = r.get_json()
-    conforms(doc, "ModalityResponse")
-    return doc
+    return post_ok(client, conforms, PATH + query, body, "ModalityResponse")
 
 
 def refused(client, conforms, body: dict) -> dict:
-    r = client.post(PATH, json=body)
-    assert r.status_code == 422, r.get_data(as_text=True)
-    assert r.mimetype == PROBLEM
-    doc = r.get_json()
-    conforms(doc, "ProblemDocument")
-    return doc
+    return post_refused(client, conforms, PATH, body)
 
 
 def values_body(x: np.ndarray, **options) -> dict:

@@ -5,16 +5,14 @@ against their formulas; the advice note on every goal; sample counts per goal. E
 
 from __future__ import annotations
 
-import json
-from importlib import resources
 
 import numpy as np
 import pytest
 from scipy import stats
 
 from ..stats import samples
+from .helpers import example, post_ok, post_refused, values
 
-PROBLEM = "application/problem+json"
 GOALS = ["one_sample_mean", "two_sample", "paired", "k_sample", "correlation", "regression_residuals",
          "control_chart", "capability"]
 COUNT = {"one_sample_mean": 1, "two_sample": 2, "paired": 2, "k_sample": 3, "correlation": 2,
@@ -25,34 +23,21 @@ def rng(seed: int) -> np.random.Generator:
     return np.random.default_rng(seed)
 
 
-def values(x) -> dict:
-    return {"values": np.asarray(x, dtype=float).tolist()}
-
-
 def shape(n: int, G1: float, G2: float, sd: float = 1.0) -> dict:
     return {"summary": {"n": n, "mean": 0.0, "sd": sd, "skewness": G1, "kurtosis": G2}}
 
 
 def ok(client, conforms, goal: str, samples_: list[dict], **options) -> dict:
-    r = client.post("/v1/recommend", json={"goal": goal, "samples": samples_, **options})
-    assert r.status_code == 200, r.get_data(as_text=True)
-    doc = r.get_json()
-    conforms(doc, "RecommendResponse")
-    return doc
+    return post_ok(client, conforms, "/v1/recommend", {"goal": goal, "samples": samples_, **options}, "RecommendResponse")
 
 
 def refused(client, conforms, body: dict) -> dict:
-    r = client.post("/v1/recommend", json=body)
-    assert r.status_code == 422, r.get_data(as_text=True)
-    assert r.mimetype == PROBLEM
-    doc = r.get_json()
-    conforms(doc, "ProblemDocument")
-    return doc
+    return post_refused(client, conforms, "/v1/recommend", body)
 
 
 class TestTwoSample:
     def test_welch_by_default(self, client, conforms):
-        body = json.loads(resources.files("service.api").joinpath("examples", "recommend.json").read_text())
+        body = example("recommend.json")
         doc = ok(client, conforms, body["goal"], body["samples"])
         # Delacre, Lakens & Leys (2017): Welch's t-test by default.
         assert doc["rules"][0] == "welch_by_default"

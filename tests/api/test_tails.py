@@ -6,9 +6,7 @@ with Wilson intervals, parts per million, mixture probabilities against the comp
 
 from __future__ import annotations
 
-import json
 import math
-from importlib import resources
 
 import numpy as np
 import pytest
@@ -16,22 +14,14 @@ from scipy import stats
 from statsmodels.stats.proportion import proportion_confint
 
 from ..stats import samples
+from .helpers import PROBLEM, example, post_ok
 
-PROBLEM = "application/problem+json"
 UNAVAILABLE = {"available", "reason"}
 MODEL = {"summary": {"n": 1000, "mean": 100.0, "sd": 15.0}}  # a normal model: x = 100 + 15 z
 
 
-def example(name: str) -> dict:
-    return json.loads(resources.files("service.api").joinpath("examples", name).read_text())
-
-
 def ok(client, conforms, body: dict) -> dict:
-    r = client.post("/v1/tails", json=body)
-    assert r.status_code == 200, r.get_data(as_text=True)
-    doc = r.get_json()
-    conforms(doc, "TailsResponse")
-    return doc
+    return post_ok(client, conforms, "/v1/tails", body, "TailsResponse")
 
 
 def unavailable(node) -> bool:

@@ -5,26 +5,15 @@ the generated OpenAPI document."""
 
 from __future__ import annotations
 
-import json
-from importlib import resources
 
 import numpy as np
 import pytest
 from scipy import optimize, stats
-
-PROBLEM = "application/problem+json"
-
-
-def example(name: str) -> dict:
-    return json.loads(resources.files("service.api").joinpath("examples", name).read_text())
+from .helpers import PROBLEM, example, post_ok
 
 
 def ok(client, conforms, body: dict) -> dict:
-    r = client.post("/v1/transform", json=body)
-    assert r.status_code == 200, r.get_data(as_text=True)
-    doc = r.get_json()
-    conforms(doc, "TransformResponse")
-    return doc
+    return post_ok(client, conforms, "/v1/transform", body, "TransformResponse")
 
 
 LOGNORMAL = np.random.default_rng(601).lognormal(1.0, 0.7, 150)

@@ -12,13 +12,14 @@ from __future__ import annotations
 
 import json
 import math
-import warnings
 from importlib import resources
 
 import numpy as np
 import pytest
 from numpy.testing import assert_allclose
 from scipy import stats
+
+from ..stats.compare_reference import SCIPY_TWO_SAMPLE, quiet
 from .helpers import post_ok, post_refused, values
 
 N = 2000
@@ -35,12 +36,6 @@ def refused(client, conforms, body: dict, status: int = 422) -> dict:
 
 def pair(x, y, **options) -> dict:
     return {"sample": values(x), "reference": values(y), **options}
-
-
-def quiet(fn, *args, **kwargs):
-    with warnings.catch_warnings():
-        warnings.simplefilter("ignore", UserWarning)
-        return fn(*args, **kwargs)
 
 
 def standardised(dist, size: int, seed: int) -> np.ndarray:
@@ -65,13 +60,7 @@ def example() -> dict:
     return json.loads(resources.files("service.api").joinpath("examples", "compare.json").read_text())
 
 
-EXAMPLE_REFERENCE = {  # name -> the scipy call that defines it
-    "kolmogorov_smirnov": lambda x, y: stats.ks_2samp(x, y),
-    "anderson_darling": lambda x, y: quiet(stats.anderson_ksamp, [x, y], variant="midrank"),
-    "cramer_von_mises": lambda x, y: stats.cramervonmises_2samp(x, y),
-    "location": lambda x, y: stats.ttest_ind(x, y, equal_var=False),
-    "scale": lambda x, y: stats.levene(x, y, center="median"),
-}
+EXAMPLE_REFERENCE = SCIPY_TWO_SAMPLE  # name -> the scipy call that defines it
 
 
 class TestExample:

@@ -28,6 +28,8 @@ from functools import lru_cache
 import numpy as np
 from scipy import special, stats
 
+from .samples import gamma, lognormal, normal, uniform  # noqa: F401 (normal: used as ms.normal)
+
 
 @dataclass(frozen=True)
 class Comp:
@@ -39,10 +41,6 @@ class Comp:
 
 
 # ----------------------------------------------------------------------- samples
-
-
-def normal(n: int, seed: int, loc: float = 0.0, scale: float = 1.0) -> np.ndarray:
-    return np.random.default_rng(seed).normal(loc, scale, size=n)
 
 
 def mixture(n: int, seed: int, comps: tuple[Comp, ...]) -> np.ndarray:
@@ -70,11 +68,11 @@ def clear(name: str, n: int, seed: int) -> np.ndarray:
 
 
 SKEWED = {
-    "lognormal_0.5": lambda n, seed: np.random.default_rng(seed).lognormal(0.0, 0.5, size=n),
-    "lognormal_1": lambda n, seed: np.random.default_rng(seed).lognormal(0.0, 1.0, size=n),
-    "gamma_2": lambda n, seed: np.random.default_rng(seed).gamma(2.0, size=n),
-    "gamma_8": lambda n, seed: np.random.default_rng(seed).gamma(8.0, size=n),
-    "uniform": lambda n, seed: np.random.default_rng(seed).uniform(size=n),
+    "lognormal_0.5": lambda n, seed: lognormal(n, seed, 0.5),
+    "lognormal_1": lambda n, seed: lognormal(n, seed, 1.0),
+    "gamma_2": lambda n, seed: gamma(n, seed, 2.0),
+    "gamma_8": lambda n, seed: gamma(n, seed, 8.0),
+    "uniform": uniform,
 }
 
 

@@ -21,6 +21,8 @@ from service.stats.compare import compare
 from service.stats.forms import Sample
 from service.stats.profile import profile_of_sample
 
+from .compare_reference import SCIPY_TWO_SAMPLE, quiet
+
 
 def profile(x):
     return profile_of_sample(Sample.from_array(np.asarray(x, dtype=float)))
@@ -28,13 +30,6 @@ def profile(x):
 
 def compared(x, y, alpha: float = 0.05):
     return compare(profile(x), profile(y), alpha)
-
-
-def quiet(fn, *args, **kwargs):
-    """A scipy reference that warns when its p-value leaves its table (UserWarning)."""
-    with warnings.catch_warnings():
-        warnings.simplefilter("ignore", UserWarning)
-        return fn(*args, **kwargs)
 
 
 # Seeded pairs (sample, reference): sizes from 12 to 600, equal and unequal, several
@@ -49,13 +44,7 @@ PAIRS = {
                              np.round(np.random.default_rng(12).normal(5.3, 1.0, 180), 0)),
 }
 
-REFERENCE = {  # name -> the scipy call that defines it (statistic, p-value)
-    "kolmogorov_smirnov": lambda x, y: stats.ks_2samp(x, y),
-    "anderson_darling": lambda x, y: quiet(stats.anderson_ksamp, [x, y], variant="midrank"),
-    "cramer_von_mises": lambda x, y: stats.cramervonmises_2samp(x, y),
-    "location": lambda x, y: stats.ttest_ind(x, y, equal_var=False),
-    "scale": lambda x, y: stats.levene(x, y, center="median"),
-}
+REFERENCE = SCIPY_TWO_SAMPLE
 
 
 class TestRawValueTests:

@@ -2,13 +2,17 @@
 
 from __future__ import annotations
 
+import os
+
 import pytest
 
 from service import create_app
 from service.config import load_config
 
 
-def test_defaults():
+def test_defaults(monkeypatch):
+    for name in [k for k in os.environ if k.startswith("SHAPEGAUGE_")]:
+        monkeypatch.delenv(name)  # the defaults, whatever the machine running the tests sets
     app = create_app()
     assert not app.testing
     assert app.config["MAX_VALUES"] == 2_000_000
